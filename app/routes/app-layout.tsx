@@ -1,0 +1,155 @@
+import { Form, NavLink, Outlet, useFetcher, useNavigation } from "react-router";
+import { LogoMark } from "~/components/logo";
+import { can, type Permission, ROLE_LABELS } from "~/lib/permissions";
+import { listMemberships, requireMember } from "~/server/auth.server";
+import { readTheme } from "~/server/theme.server";
+import type { Route } from "./+types/app-layout";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const { user, shop, role } = await requireMember(request);
+  const memberships = await listMemberships(user.id);
+  return {
+    user: { id: user.id, name: user.name, email: user.email },
+    shop: { id: shop.id, name: shop.name },
+    role,
+    memberships: memberships.map((m) => ({ shopId: m.shopId, shopName: m.shopName, role: m.role })),
+    theme: readTheme(request),
+  };
+}
+
+const NAV: Array<{ to: string; label: string; permission: Permission }> = [
+  { to: "/boards", label: "Boards", permission: "view:maps" },
+  { to: "/runs", label: "Runs", permission: "view:runs" },
+  { to: "/jobs", label: "Jobs", permission: "view:jobs" },
+  { to: "/insights", label: "Insights", permission: "view:insights" },
+  { to: "/settings", label: "Shop settings", permission: "manage:shop" },
+];
+
+export default function AppLayoutRoute({ loaderData }: Route.ComponentProps) {
+  const { user, shop, role, memberships, theme } = loaderData;
+  const navigation = useNavigation();
+  const busy = navigation.state !== "idle";
+  return (
+    <div className="flex min-h-screen flex-col">
+      <div
+        aria-hidden="true"
+        className={`fixed top-0 left-0 z-50 h-0.5 bg-accent transition-all duration-500 ${busy ? "w-2/3 opacity-100" : "w-full opacity-0"}`}
+      />
+      <header className="no-print border-b border-line bg-panel">
+        <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-6 gap-y-2 px-4 py-2">
+          <NavLink to="/boards" className="flex items-center gap-2" aria-label="Railwise, boards">
+            <LogoMark className="h-7 w-7" />
+            <span className="font-semibold tracking-tight">Railwise</span>
+          </NavLink>
+          <nav aria-label="Main" className="flex flex-wrap gap-1">
+            {NAV.filter((n) => can(role, n.permission)).map((n) => (
+              <NavLink
+                key={n.to}
+                to={n.to}
+                className={({ isActive, isPending }) =>
+                  `rounded-md px-3 py-2 text-sm font-medium ${isActive ? "bg-accent-soft text-accent" : "text-ink hover:bg-sunken"} ${isPending ? "opacity-70" : ""}`
+                }
+              >
+                {n.label}
+              </NavLink>
+            ))}
+          </nav>
+          <div className="ml-auto flex items-center gap-3 text-sm">
+            <ShopSwitcher current={shop} memberships={memberships} />
+            <span className="hidden text-muted md:inline" title={user.email}>
+              {user.name} · {ROLE_LABELS[role]}
+            </span>
+            <ThemeToggle theme={theme} />
+            <Form method="post" action="/logout">
+              <button type="submit" className="btn px-3 py-1">
+                Sign out
+              </button>
+            </Form>
+          </div>
+        </div>
+      </header>
+      <main className="mx-auto w-full max-w-7xl flex-1 px-4 py-6">
+        <Outlet />
+      </main>
+    </div>
+  );
+}
+
+function ShopSwitcher({
+  current,
+  memberships,
+}: {
+  current: { id: string; name: string };
+  memberships: Array<{ shopId: string; shopName: string }>;
+}) {
+  if (memberships.length < 2) return <span className="font-medium">{current.name}</span>;
+  return (
+    <Form method="post" action="/switch-shop" className="flex items-center gap-1">
+      <label htmlFor="shop-switch" className="sr-only">
+        Shop
+      </label>
+      <select
+        id="shop-switch"
+        name="shopId"
+        defaultValue={current.id}
+        className="field-input py-1"
+        onChange={(e) => e.currentTarget.form?.requestSubmit()}
+      >
+        {memberships.map((m) => (
+          <option key={m.shopId} value={m.shopId}>
+            {m.shopName}
+          </option>
+        ))}
+      </select>
+      <noscript>
+        <button type="submit" className="btn">
+          Switch
+        </button>
+      </noscript>
+    </Form>
+  );
+}
+
+const NEXT_THEME = { system: "light", light: "dark", dark: "system" } as const;
+const THEME_LABEL = { system: "Theme: follows system", light: "Theme: light", dark: "Theme: dark" } as const;
+
+function ThemeToggle({ theme }: { theme: keyof typeof NEXT_THEME }) {
+  const fetcher = useFetcher();
+  const shown = (fetcher.formData?.get("theme") as keyof typeof NEXT_THEME | undefined) ?? theme;
+  return (
+    <fetcher.Form
+      method="post"
+      action="/theme"
+      onSubmit={() => {
+        document.documentElement.dataset.theme = NEXT_THEME[shown];
+      }}
+    >
+      <input type="hidden" name="theme" value={NEXT_THEME[shown]} />
+      <button
+        type="submit"
+        className="btn px-3 py-1"
+        title={THEME_LABEL[shown]}
+        aria-label={`${THEME_LABEL[shown]}. Switch to ${NEXT_THEME[shown]}.`}
+      >
+        {shown === "dark" ? "☾" : shown === "light" ? "☀" : "◐"}
+      </button>
+    </fetcher.Form>
+  );
+}
+
+export function ErrorBoundary({ error }: Route.ErrorBoundaryProps) {
+  const status = (error as { status?: number })?.status;
+  const message =
+    typeof (error as { data?: unknown })?.data === "string" ? (error as { data: string }).data : null;
+  return (
+    <main className="mx-auto max-w-xl p-10">
+      <h1 className="text-2xl font-semibold">
+        {status === 403 ? "Not allowed" : status === 404 ? "Not found" : "Something went wrong"}
+      </h1>
+      <p className="mt-2 text-muted">{message ?? "This page could not be shown."}</p>
+      <a className="link mt-4 inline-block" href="/boards">
+        Back to boards
+      </a>
+    </main>
+  );
+}

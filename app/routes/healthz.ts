@@ -1,0 +1,14 @@
+import { sql } from "drizzle-orm";
+import { db } from "~/server/db.server";
+
+export async function loader() {
+  try {
+    await db.run(sql`select 1`);
+    return Response.json({ ok: true, database: "reachable" }, { headers: { "Cache-Control": "no-store" } });
+  } catch {
+    return Response.json(
+      { ok: false, database: "unreachable" },
+      { status: 503, headers: { "Cache-Control": "no-store" } },
+    );
+  }
+}

@@ -1,0 +1,18 @@
+import { redirect } from "react-router";
+import { clearSessionCookie, deleteAllSessions, deleteSession, getSession } from "~/server/session.server";
+import type { Route } from "./+types/logout";
+
+// Sign-out is a POST only (a GET link could be triggered by another site); `everywhere` ends every session.
+export async function action({ request }: Route.ActionArgs) {
+  const form = await request.formData();
+  const found = await getSession(request);
+  if (found) {
+    if (form.get("everywhere") === "1") await deleteAllSessions(found.user.id);
+    else await deleteSession(found.session.id);
+  }
+  return redirect("/login", { headers: { "Set-Cookie": clearSessionCookie() } });
+}
+
+export async function loader() {
+  return redirect("/");
+}

@@ -1,0 +1,18 @@
+import { redirect } from "react-router";
+import { listMemberships, requireUser } from "~/server/auth.server";
+import { switchSessionShop } from "~/server/session.server";
+import type { Route } from "./+types/switch-shop";
+
+export async function action({ request }: Route.ActionArgs) {
+  const { user, session } = await requireUser(request);
+  const shopId = String((await request.formData()).get("shopId") ?? "");
+  const memberships = await listMemberships(user.id);
+  if (!memberships.some((m) => m.shopId === shopId))
+    throw new Response("You are not a member of that shop.", { status: 404 });
+  await switchSessionShop(session.id, shopId);
+  return redirect("/boards");
+}
+
+export async function loader() {
+  return redirect("/boards");
+}

@@ -1,0 +1,11 @@
+import { data } from "react-router";
+import { THEMES, type Theme, themeCookie } from "~/server/theme.server";
+import type { Route } from "./+types/theme";
+
+export async function action({ request }: Route.ActionArgs) {
+  const theme = String((await request.formData()).get("theme") ?? "");
+  if (!(THEMES as readonly string[]).includes(theme)) {
+    return data({ error: "Theme must be system, light or dark." }, { status: 400 });
+  }
+  return data({ theme }, { headers: { "Set-Cookie": themeCookie(theme as Theme) } });
+}

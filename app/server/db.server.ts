@@ -1,0 +1,45 @@
+import { mkdirSync } from "node:fs";
+import path from "node:path";
+import { createClient } from "@libsql/client";
+import { drizzle } from "drizzle-orm/libsql";
+import { migrate } from "drizzle-orm/libsql/migrator";
+import { env } from "./env.server";
+import * as schema from "./schema.server";
+
+function migrationsFolder() {
+  // The server build runs from the repository root; tests too. MIGRATIONS_DIR lets a packaged build point elsewhere.
+  return process.env.MIGRATIONS_DIR ?? path.resolve(process.cwd(), "drizzle");
+}
+
+export function openDatabase(url = env.DATABASE_URL, authToken = env.DATABASE_AUTH_TOKEN) {
+  if (url.startsWith("file:")) {
+    const file = url.slice("file:".length);
+    if (file && file !== ":memory:") mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
+  }
+  // `timeout` is the busy timeout of every pooled connection (a PRAGMA would reach only one).
+  const client = createClient({ url, authToken, timeout: env.DATABASE_TIMEOUT_MS });
+  const db = drizzle(client, { schema });
+  return { client, db };
+}
+
+export type Db = ReturnType<typeof openDatabase>["db"];
+
+async function prepare(client: ReturnType<typeof createClient>, db: Db) {
+  if (env.DATABASE_URL.startsWith("file:")) {
+    await client.execute("PRAGMA journal_mode=WAL");
+    await client.execute("PRAGMA foreign_keys=ON");
+  }
+  await migrate(db, { migrationsFolder: migrationsFolder() });
+}
+
+const opened = openDatabase();
+export const client = opened.client;
+export const db = opened.db;
+
+// Migrations are applied before the first request is served: every module that reads the database imports this one.
+await prepare(client, db);
+
+if (env.SEED_DEMO === "1") {
+  const { seedDemo } = await import("../../seed/demo.server");
+  await seedDemo(db);
+}

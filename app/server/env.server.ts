@@ -1,0 +1,45 @@
+import { z } from "zod";
+
+// Read once at start-up; a bad value stops the server with a message naming the variable.
+const EnvSchema = z.object({
+  NODE_ENV: z.enum(["development", "production", "test"]).default("development"),
+  DATABASE_URL: z.string().min(1).default("file:./data/railwise.db"),
+  DATABASE_AUTH_TOKEN: z.string().optional(),
+  DATABASE_TIMEOUT_MS: z.coerce.number().int().positive().default(5000),
+  SESSION_SECRET: z.string().min(16).default("dev-only-session-secret-change-me"),
+  MAIL_CAPTURE: z.enum(["0", "1"]).optional(),
+  SMTP_URL: z.string().optional(),
+  MAIL_FROM: z.string().default("Railwise <no-reply@railwise.local>"),
+  APP_URL: z.string().url().optional(),
+  SIGNIN_MAX_PER_ACCOUNT: z.coerce.number().int().positive().default(10),
+  SIGNIN_MAX_PER_ADDRESS: z.coerce.number().int().positive().default(100),
+  SIGNIN_WINDOW_MINUTES: z.coerce.number().positive().default(15),
+  SEED_DEMO: z.enum(["0", "1"]).optional(),
+  SECURE_COOKIES: z.enum(["0", "1"]).optional(),
+});
+
+export type Env = z.infer<typeof EnvSchema>;
+
+function readEnv(): Env {
+  const parsed = EnvSchema.safeParse(process.env);
+  if (!parsed.success) {
+    const lines = parsed.error.issues.map((i) => `  ${i.path.join(".")}: ${i.message}`);
+    throw new Error(`Railwise cannot start, the environment is not valid:\n${lines.join("\n")}`);
+  }
+  const env = parsed.data;
+  if (env.NODE_ENV === "production" && env.SESSION_SECRET.startsWith("dev-only") && env.SEED_DEMO !== "1") {
+    console.warn("SESSION_SECRET is the development default; set your own in production.");
+  }
+  return env;
+}
+
+export const env = readEnv();
+
+/** Mail capture is on unless production says otherwise, so no path ever needs a real mail server. */
+export const mailCaptureOn = () =>
+  env.MAIL_CAPTURE ? env.MAIL_CAPTURE === "1" : env.NODE_ENV !== "production" || !env.SMTP_URL;
+
+export const secureCookies = () =>
+  env.SECURE_COOKIES
+    ? env.SECURE_COOKIES === "1"
+    : env.NODE_ENV === "production" && !!env.APP_URL?.startsWith("https:");

@@ -1,0 +1,69 @@
+import { and, desc, eq, gt, isNull } from "drizzle-orm";
+import { countOwners } from "./accounts.server";
+import { db } from "./db.server";
+import { emailTokens, members, type Role, users } from "./schema.server";
+
+export function listMembers(shopId: string) {
+  return db
+    .select({
+      id: members.id,
+      role: members.role,
+      userId: users.id,
+      name: users.name,
+      email: users.email,
+      since: members.createdAt,
+    })
+    .from(members)
+    .innerJoin(users, eq(users.id, members.userId))
+    .where(eq(members.shopId, shopId))
+    .orderBy(users.name)
+    .all();
+}
+
+export function listPendingInvites(shopId: string) {
+  return db
+    .select({
+      id: emailTokens.id,
+      email: emailTokens.email,
+      role: emailTokens.role,
+      expiresAt: emailTokens.expiresAt,
+    })
+    .from(emailTokens)
+    .where(
+      and(
+        eq(emailTokens.shopId, shopId),
+        eq(emailTokens.purpose, "invite"),
+        isNull(emailTokens.usedAt),
+        gt(emailTokens.expiresAt, new Date()),
+      ),
+    )
+    .orderBy(desc(emailTokens.createdAt))
+    .all();
+}
+
+export type MemberChangeResult = { ok: true } | { ok: false; status: 400 | 404; message: string };
+
+/** Role change or removal, refusing anything that would leave the shop without an owner. */
+export async function changeMember(
+  shopId: string,
+  memberId: string,
+  change: { role: Role } | { remove: true },
+): Promise<MemberChangeResult> {
+  const target = await db
+    .select()
+    .from(members)
+    .where(and(eq(members.id, memberId), eq(members.shopId, shopId)))
+    .get();
+  if (!target) return { ok: false, status: 404, message: "That member was not found in your shop." };
+  const losesOwner = target.role === "owner" && ("remove" in change || change.role !== "owner");
+  if (losesOwner && (await countOwners(shopId)) <= 1) {
+    return {
+      ok: false,
+      status: 400,
+      message: "A shop needs at least one owner. Make someone else owner first.",
+    };
+  }
+  if ("remove" in change) await db.delete(members).where(eq(members.id, memberId));
+  else await db.update(members).set({ role: change.role }).where(eq(members.id, memberId));
+  return { ok: true };
+}

@@ -1,0 +1,25 @@
+#!/usr/bin/env bash
+# Sets up and runs every test: install, Chromium, type-check, lint, unit + integration, build, end-to-end.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+npm ci --no-audit --no-fund
+
+if ! command -v chromium >/dev/null 2>&1 && [ ! -x /usr/bin/chromium ]; then
+  if [ "$(id -u)" = "0" ]; then
+    echo "Installing Debian's Chromium for the end-to-end tests…"
+    apt-get update -qq
+    DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium >/dev/null
+  else
+    echo "The end-to-end tests need Debian's Chromium at /usr/bin/chromium. Install it with:"
+    echo "  sudo apt-get install -y chromium"
+    exit 1
+  fi
+fi
+
+echo "== type-check"; npm run typecheck
+echo "== lint"; npm run lint
+echo "== unit and integration tests"; npx vitest run
+echo "== production build"; npm run build
+echo "== end-to-end tests (Chromium)"; npx playwright test
+echo "All test stages passed."

@@ -1,0 +1,50 @@
+import { eq } from "drizzle-orm";
+import type { Db } from "../app/server/db.server";
+import { hashPassword } from "../app/server/password.server";
+import { boards, maps, members, shops, users } from "../app/server/schema.server";
+import { DEMO_BOARDS, DEMO_MEMBERS, DEMO_PASSWORD, DEMO_SHOP } from "./demo-data";
+
+/**
+ * The invented demo shop. Fixed ids make it idempotent: a second run inserts nothing and changes nothing.
+ * Only ever called when SEED_DEMO=1, so a production start never creates these known logins.
+ */
+export async function seedDemo(db: Db) {
+  const existing = await db.select({ id: shops.id }).from(shops).where(eq(shops.id, DEMO_SHOP.id)).get();
+  if (existing) return { created: false };
+  const passwordHash = await hashPassword(DEMO_PASSWORD);
+  await db.batch([
+    db.insert(shops).values(DEMO_SHOP).onConflictDoNothing(),
+    ...DEMO_MEMBERS.map((m) =>
+      db
+        .insert(users)
+        .values({ id: m.userId, email: m.email, name: m.name, passwordHash })
+        .onConflictDoNothing(),
+    ),
+    ...DEMO_MEMBERS.map((m) =>
+      db
+        .insert(members)
+        .values({ id: `demo-member-${m.role}`, shopId: DEMO_SHOP.id, userId: m.userId, role: m.role })
+        .onConflictDoNothing(),
+    ),
+    ...DEMO_BOARDS.map((b) =>
+      db
+        .insert(boards)
+        .values({ ...b.board, shopId: DEMO_SHOP.id })
+        .onConflictDoNothing(),
+    ),
+    ...DEMO_BOARDS.map((b) =>
+      db
+        .insert(maps)
+        .values({
+          id: b.mapId,
+          shopId: DEMO_SHOP.id,
+          boardId: b.board.id,
+          name: b.mapName,
+          draft: b.document(),
+          draftRevision: 1,
+        })
+        .onConflictDoNothing(),
+    ),
+  ]);
+  return { created: true };
+}

@@ -1,0 +1,115 @@
+import { expect, test } from "@playwright/test";
+import { DEMO, signIn, uniqueEmail, waitForEmail } from "./support";
+
+test("a visitor sets up a new shop and lands on its boards", async ({ page }) => {
+  await page.goto("/");
+  await expect(page.getByRole("heading", { level: 1 })).toContainText("Find the dead rail faster");
+  await page.getByRole("link", { name: "Set up a shop" }).first().click();
+  await page.getByLabel("Your name").fill("Ada Newshop");
+  await page.getByLabel("Shop name").fill("Copperline Repairs");
+  await page.getByLabel("E-mail").fill(uniqueEmail("founder"));
+  await page.getByLabel("Password").fill("a long new password");
+  await page.getByRole("button", { name: "Create shop" }).click();
+  await expect(page).toHaveURL(/\/boards$/);
+  await expect(page.getByRole("status")).toContainText("Copperline Repairs is ready");
+  await expect(page.getByRole("heading", { name: "No boards yet" })).toBeVisible();
+  await expect(page.getByRole("link", { name: "Shop settings" })).toBeVisible();
+});
+
+const NAV_BY_ROLE = {
+  owner: ["Boards", "Runs", "Jobs", "Insights", "Shop settings"],
+  lead: ["Boards", "Runs", "Jobs", "Insights"],
+  tech: ["Boards", "Runs", "Jobs"],
+  desk: ["Boards", "Runs", "Jobs"],
+} as const;
+
+for (const role of Object.keys(NAV_BY_ROLE) as Array<keyof typeof NAV_BY_ROLE>) {
+  test(`the ${role} signs in and sees the navigation of that role`, async ({ page }) => {
+    await signIn(page, DEMO[role]);
+    const nav = page.getByRole("navigation", { name: "Main" });
+    await expect(nav.getByRole("link")).toHaveText([...NAV_BY_ROLE[role]]);
+    await expect(page.getByRole("link", { name: /Orrin Computing Marlow 15/ })).toBeVisible();
+  });
+}
+
+test("a wrong password gets a clear message", async ({ page }) => {
+  await page.goto("/login");
+  await page.getByLabel("E-mail").fill(DEMO.lead);
+  await page.getByLabel("Password").fill("not the password");
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await expect(page.getByRole("alert")).toHaveText("That e-mail and password do not match an account.");
+  await expect(page).toHaveURL(/\/login/);
+});
+
+test("repeated failures are throttled with the wait in the message", async ({ page }) => {
+  // The e2e server allows 5 failures per account (SIGNIN_MAX_PER_ACCOUNT in playwright.config.ts).
+  const email = uniqueEmail("throttled");
+  await page.goto("/login");
+  for (let i = 0; i < 5; i++) {
+    await page.getByLabel("E-mail").fill(email);
+    await page.getByLabel("Password").fill(`wrong password ${i}`);
+    await page.getByRole("button", { name: "Sign in" }).click();
+    await expect(page.getByRole("alert")).toHaveText("That e-mail and password do not match an account.");
+  }
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill("wrong again");
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await expect(page.getByRole("alert")).toContainText(/Too many failed sign-ins\. Wait \d+ minutes?/);
+});
+
+test("signing out ends the session", async ({ page }) => {
+  await signIn(page, DEMO.desk);
+  await page.getByRole("button", { name: "Sign out" }).click();
+  await expect(page).toHaveURL(/\/login/);
+  await page.goto("/boards");
+  await expect(page).toHaveURL(/\/login\?redirectTo=%2Fboards/);
+});
+
+test("an owner invites a technician who accepts from the e-mail", async ({ page, browser }) => {
+  await signIn(page, DEMO.owner);
+  await page.getByRole("link", { name: "Shop settings" }).click();
+  const email = uniqueEmail("invitee");
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Role", { exact: true }).selectOption("tech");
+  await page.getByRole("button", { name: "Send invitation" }).click();
+  await expect(page.getByRole("status")).toContainText(`Invitation sent to ${email}`);
+
+  const mail = await waitForEmail(page, email, /invited you to Harbor Bench Repair/);
+  const link = /https?:\/\/\S+\/invite\/[a-z0-9]+/.exec(mail.text)![0];
+  const context = await browser.newContext();
+  const invitee = await context.newPage();
+  await invitee.goto(link);
+  await expect(invitee.getByRole("heading", { name: "Join Harbor Bench Repair" })).toBeVisible();
+  await invitee.getByLabel("Your name").fill("Ivo Invited");
+  await invitee.getByLabel("Choose a password").fill("invited tech password");
+  await invitee.getByRole("button", { name: "Accept invitation" }).click();
+  await expect(invitee).toHaveURL(/\/boards/);
+  await expect(invitee.getByText("Ivo Invited · Technician")).toBeVisible();
+  await context.close();
+});
+
+test("a technician is refused the shop settings page", async ({ page }) => {
+  await signIn(page, DEMO.tech);
+  await expect(page.getByRole("link", { name: "Shop settings" })).toHaveCount(0);
+  const res = await page.goto("/settings");
+  expect(res?.status()).toBe(403);
+  await expect(page.getByRole("heading", { name: "Not allowed" })).toBeVisible();
+});
+
+test("the theme toggle is remembered across visits", async ({ page }) => {
+  await signIn(page, DEMO.lead);
+  const html = page.locator("html");
+  await expect(html).toHaveAttribute("data-theme", "system");
+  await page.getByRole("button", { name: /Theme: follows system/ }).click();
+  await expect(html).toHaveAttribute("data-theme", "light");
+  await page.getByRole("button", { name: /Theme: light/ }).click();
+  await expect(html).toHaveAttribute("data-theme", "dark");
+  await page.reload();
+  await expect(html).toHaveAttribute("data-theme", "dark");
+});
+
+test("an unknown address shows the not-found page", async ({ page }) => {
+  const res = await page.goto("/no/such/page");
+  expect(res?.status()).toBe(404);
+  await expect(page.getByRole("heading", { name: "Page not found" })).toBeVisible();
+});

@@ -1,0 +1,36 @@
+import { expect, type Page } from "@playwright/test";
+
+export const DEMO_PASSWORD = "bench-demo-2026";
+export const DEMO = {
+  owner: "owner@harbor.example",
+  lead: "lead@harbor.example",
+  tech: "tech@harbor.example",
+  desk: "desk@harbor.example",
+} as const;
+
+export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
+  await page.goto("/login");
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(password);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await expect(page).toHaveURL(/\/boards/);
+}
+
+type Captured = { id: number; to: string; subject: string; text: string };
+
+/** Reads the captured outbox until a message to `to` matching `subject` arrives. */
+export async function waitForEmail(page: Page, to: string, subject: RegExp): Promise<Captured> {
+  let found: Captured | undefined;
+  await expect
+    .poll(async () => {
+      const res = await page.request.get("/dev/outbox.json");
+      const { messages } = (await res.json()) as { messages: Captured[] };
+      found = messages.find((m) => m.to === to && subject.test(m.subject));
+      return !!found;
+    })
+    .toBe(true);
+  return found!;
+}
+
+export const uniqueEmail = (prefix: string) =>
+  `${prefix}-${Date.now()}-${Math.floor(Math.random() * 1e6)}@e2e.example`;
