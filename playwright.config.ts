@@ -29,7 +29,7 @@ export default defineConfig({
   },
   projects: [{ name: "chromium", use: { ...devices["Desktop Chrome"], channel: undefined } }],
   webServer: {
-    command: "rm -f data/e2e.db data/e2e.db-* && node server.mjs",
+    command: `rm -f data/e2e-${PORT}.db data/e2e-${PORT}.db-* && node server.mjs`,
     url: `${BASE_URL}/healthz`,
     reuseExistingServer: false,
     timeout: 60_000,
@@ -37,7 +37,8 @@ export default defineConfig({
     env: {
       PORT: String(PORT),
       HOST: "127.0.0.1",
-      DATABASE_URL: "file:./data/e2e.db",
+      DATABASE_URL: `file:./data/e2e-${PORT}.db`,
+      RAILWISE_BUILD_DIR: process.env.RAILWISE_BUILD_DIR ?? "build",
       SEED_DEMO: "1",
       MAIL_CAPTURE: "1",
       SIGNIN_MAX_PER_ACCOUNT: "5",

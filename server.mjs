@@ -9,7 +9,8 @@ const { default: express } = await import("express");
 const port = Number(process.env.PORT ?? 3000);
 const host = process.env.HOST ?? "0.0.0.0";
 
-const build = await import("./build/server/index.js");
+const buildDir = process.env.RAILWISE_BUILD_DIR ?? "build";
+const build = await import(new URL(`./${buildDir}/server/index.js`, import.meta.url).href);
 
 const app = express();
 app.disable("x-powered-by");
@@ -19,8 +20,8 @@ app.use(
     filter: (req, res) => !String(res.getHeader("Content-Type") ?? "").includes("text/event-stream") && compression.filter(req, res),
   }),
 );
-app.use("/assets", express.static("build/client/assets", { immutable: true, maxAge: "1y" }));
-app.use(express.static("build/client", { maxAge: "1h" }));
+app.use("/assets", express.static(`${buildDir}/client/assets`, { immutable: true, maxAge: "1y" }));
+app.use(express.static(`${buildDir}/client`, { maxAge: "1h" }));
 app.all(
   "*",
   createRequestHandler({
