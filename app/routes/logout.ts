@@ -1,9 +1,11 @@
 import { redirect } from "react-router";
+import { assertSameOrigin } from "~/server/origin.server";
 import { clearSessionCookie, deleteAllSessions, deleteSession, getSession } from "~/server/session.server";
 import type { Route } from "./+types/logout";
 
 // Sign-out is a POST only (a GET link could be triggered by another site); `everywhere` ends every session.
 export async function action({ request }: Route.ActionArgs) {
+  assertSameOrigin(request);
   const form = await request.formData();
   const found = await getSession(request);
   if (found) {

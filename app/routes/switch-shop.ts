@@ -1,9 +1,11 @@
 import { redirect } from "react-router";
+import { assertSameOrigin } from "~/server/origin.server";
 import { listMemberships, requireUser } from "~/server/auth.server";
 import { switchSessionShop } from "~/server/session.server";
 import type { Route } from "./+types/switch-shop";
 
 export async function action({ request }: Route.ActionArgs) {
+  assertSameOrigin(request);
   const { user, session } = await requireUser(request);
   const shopId = String((await request.formData()).get("shopId") ?? "");
   const memberships = await listMemberships(user.id);

@@ -1,8 +1,10 @@
 import { data } from "react-router";
+import { assertSameOrigin } from "~/server/origin.server";
 import { THEMES, type Theme, themeCookie } from "~/server/theme.server";
 import type { Route } from "./+types/theme";
 
 export async function action({ request }: Route.ActionArgs) {
+  assertSameOrigin(request);
   const theme = String((await request.formData()).get("theme") ?? "");
   if (!(THEMES as readonly string[]).includes(theme)) {
     return data({ error: "Theme must be system, light or dark." }, { status: 400 });
