@@ -113,3 +113,30 @@ test("an unknown address shows the not-found page", async ({ page }) => {
   expect(res?.status()).toBe(404);
   await expect(page.getByRole("heading", { name: "Page not found" })).toBeVisible();
 });
+
+test("pages carry a nonce-based script policy and still hydrate under it", async ({ page }) => {
+  const errors: string[] = [];
+  page.on("console", (m) => {
+    if (m.type() === "error" && /Content Security Policy/i.test(m.text())) errors.push(m.text());
+  });
+  const res = await page.goto("/login");
+  const headers = res!.headers();
+  const csp = headers["content-security-policy"];
+  const scriptSrc = csp.split(";").find((d) => d.trim().startsWith("script-src"))!;
+  expect(scriptSrc).toMatch(/'nonce-[A-Za-z0-9]+'/);
+  expect(scriptSrc).not.toContain("unsafe-inline");
+  expect(csp).toContain("frame-ancestors 'none'");
+  expect(headers["referrer-policy"]).toBe("strict-origin-when-cross-origin");
+  expect(headers["x-content-type-options"]).toBe("nosniff");
+  // The route modules register themselves only when the module scripts ran: proof the nonce let them in.
+  await expect
+    .poll(() =>
+      page.evaluate(
+        () =>
+          Object.keys((window as { __reactRouterRouteModules?: object }).__reactRouterRouteModules ?? {})
+            .length,
+      ),
+    )
+    .toBeGreaterThan(0);
+  expect(errors).toEqual([]);
+});
