@@ -1,3 +1,6 @@
+import { OM_5130_MAP } from "./maps/om-5130";
+import { OM_5150_MAP } from "./maps/om-5150";
+
 // Everything here is invented: the shop, its people, the maker "Orrin Computing" and its boards.
 
 export const DEMO_PASSWORD = "bench-demo-2026";
@@ -17,14 +20,6 @@ export const DEMO_MEMBERS = [
   { userId: "demo-user-desk", role: "desk", name: "Sam Whitlow", email: "desk@harbor.example" },
 ] as const;
 
-const placeholderMap = (name: string) => () => ({
-  format: "railwise.map",
-  version: 1,
-  name,
-  settings: { strategy: "split" },
-  nodes: [],
-  edges: [],
-});
 
 export const DEMO_BOARDS = [
   {
@@ -40,7 +35,7 @@ export const DEMO_BOARDS = [
     },
     mapId: "demo-map-om5150",
     mapName: "Power-up, charger and battery",
-    document: placeholderMap("OM-5150 rev C power-up"),
+    document: OM_5150_MAP,
   },
   {
     board: {
@@ -50,11 +45,11 @@ export const DEMO_BOARDS = [
       boardNumber: "OM-5130",
       revision: "A",
       inputType: "usb-c-pd" as const,
-      inputMillivolts: 20_000,
+      inputMillivolts: 15_000,
       batteryCells: 2,
     },
     mapId: "demo-map-om5130",
     mapName: "Power-up",
-    document: placeholderMap("OM-5130 rev A power-up"),
+    document: OM_5130_MAP,
   },
 ];

@@ -1,7 +1,7 @@
 import { eq } from "drizzle-orm";
 import type { Db } from "../app/server/db.server";
 import { hashPassword } from "../app/server/password.server";
-import { boards, maps, members, shops, users } from "../app/server/schema.server";
+import { boards, maps, mapVersions, members, shops, users } from "../app/server/schema.server";
 import { DEMO_BOARDS, DEMO_MEMBERS, DEMO_PASSWORD, DEMO_SHOP } from "./demo-data";
 
 /**
@@ -40,8 +40,23 @@ export async function seedDemo(db: Db) {
           shopId: DEMO_SHOP.id,
           boardId: b.board.id,
           name: b.mapName,
-          draft: b.document(),
+          draft: b.document,
           draftRevision: 1,
+        })
+        .onConflictDoNothing(),
+    ),
+    // Each demo map is also published as version 1, so runs can start on first sign-in.
+    ...DEMO_BOARDS.map((b) =>
+      db
+        .insert(mapVersions)
+        .values({
+          id: `${b.mapId}-v1`,
+          shopId: DEMO_SHOP.id,
+          mapId: b.mapId,
+          number: 1,
+          document: b.document,
+          note: "First published map",
+          publishedBy: "demo-user-lead",
         })
         .onConflictDoNothing(),
     ),

@@ -1,0 +1,120 @@
+import { z } from "zod";
+import { type Mode, ModeSchema, type Range, RangeSchema } from "./map-document";
+import { fail, guard, ok, type Result } from "./result";
+
+export type Verdict = "in range" | "low" | "high" | "missing" | "shorted" | "open";
+
+/** One meter range: accuracy ±(pctOfReading % + counts × resolution). */
+export const MeterRangeSchema = z
+  .object({
+    fullScale: z.number().positive().finite(),
+    resolution: z.number().positive().finite(),
+    pctOfReading: z.number().min(0).max(100),
+    counts: z.number().min(0).max(10_000),
+  })
+  .strict();
+export const MeterProfileSchema = z
+  .object({
+    name: z.string().max(120).optional(),
+    voltage: z.array(MeterRangeSchema).max(20).optional(),
+    resistance: z.array(MeterRangeSchema).max(20).optional(),
+    diode: z.array(MeterRangeSchema).max(20).optional(),
+  })
+  .strict();
+export type MeterRange = z.infer<typeof MeterRangeSchema>;
+export type MeterProfile = z.infer<typeof MeterProfileSchema>;
+
+export const DEFAULT_MISSING_V = 0.1;
+export const DEFAULT_MISSING_FRACTION = 0.05;
+export const DEFAULT_SHORTED_OHM = 1;
+/** A diode-mode drop this close to zero is a dead short (common practice). */
+export const DIODE_SHORTED_V = 0.02;
+
+export type Thresholds = { missingV?: number; shortedOhm?: number };
+
+export type Judgement = {
+  verdict: Verdict;
+  /** Distance to the nearest window edge in SI units (positive inside, negative outside); 0 for OL. */
+  margin: number;
+  window: { min: number; max: number };
+  /** Meter uncertainty applied to the reading (0 without a meter profile). */
+  uncertainty: number;
+  missingThresholdV?: number;
+  shortedThresholdOhm?: number;
+};
+
+export function windowOf(range: Range): { min: number; max: number } {
+  if (!range || typeof range !== "object") return { min: Number.NaN, max: Number.NaN };
+  if ("nominal" in range) {
+    const a = range.nominal * (1 - range.tolerancePct / 100);
+    const b = range.nominal * (1 + range.tolerancePct / 100);
+    return { min: Math.min(a, b), max: Math.max(a, b) };
+  }
+  return { min: range.min, max: range.max };
+}
+
+export const nominalOf = (range: Range): number =>
+  "nominal" in range ? range.nominal : (range.min + range.max) / 2;
+
+/** Uncertainty of one reading: counts are taken on the smallest range that holds the reading. */
+export function meterUncertainty(value: number, ranges: readonly MeterRange[] | undefined): number {
+  if (!Array.isArray(ranges) || ranges.length === 0 || typeof value !== "number" || !Number.isFinite(value))
+    return 0;
+  if (!ranges.every((r) => r && Number.isFinite(r.fullScale) && Number.isFinite(r.resolution))) return 0;
+  const abs = Math.abs(value);
+  const sorted = [...ranges].sort((a, b) => a.fullScale - b.fullScale);
+  const range = sorted.find((r) => abs <= r.fullScale) ?? sorted[sorted.length - 1];
+  return (abs * range.pctOfReading) / 100 + range.counts * range.resolution;
+}
+
+const ReadingValueSchema = z.object({
+  mode: ModeSchema,
+  value: z.union([z.literal("OL"), z.number().finite()]),
+});
+
+/**
+ * Judges one reading against its expected window. The window is widened by the meter's stated
+ * accuracy: in range when reading ± uncertainty overlaps [min, max].
+ */
+export const judge = guard(
+  (
+    reading: { mode: Mode; value: number | "OL" },
+    expected: Range,
+    meter?: MeterProfile,
+    thresholds?: Thresholds,
+  ): Result<Judgement> => {
+    const r = ReadingValueSchema.safeParse(reading);
+    if (!r.success) return fail("invalid-input", "A reading needs a mode and a finite number or 'OL'.");
+    const e = RangeSchema.safeParse(expected);
+    if (!e.success) return fail("invalid-input", "The expected range is not valid.");
+    if (meter !== undefined && !MeterProfileSchema.safeParse(meter).success)
+      return fail("invalid-input", "The meter profile is not valid.");
+    const { mode, value } = r.data;
+    const window = windowOf(e.data);
+    const nominal = nominalOf(e.data);
+    const missingV =
+      thresholds?.missingV ?? Math.max(DEFAULT_MISSING_V, DEFAULT_MISSING_FRACTION * Math.abs(nominal));
+    const shortedOhm = thresholds?.shortedOhm ?? DEFAULT_SHORTED_OHM;
+    const base = { window, missingThresholdV: mode === "voltage" ? missingV : undefined };
+    const withShort = mode === "resistance" ? { shortedThresholdOhm: shortedOhm } : {};
+    if (value === "OL") {
+      return ok({
+        ...base,
+        ...withShort,
+        verdict: mode === "voltage" ? "high" : "open",
+        margin: 0,
+        uncertainty: 0,
+      });
+    }
+    const u = meterUncertainty(value, meter?.[mode]);
+    const margin = Math.min(value - window.min, window.max - value);
+    let verdict: Verdict;
+    if (mode === "voltage" && Math.abs(value) < missingV) verdict = "missing";
+    else if (mode === "resistance" && value < shortedOhm) verdict = "shorted";
+    else if (mode === "diode" && value < DIODE_SHORTED_V) verdict = "shorted";
+    else if (value + u < window.min) verdict = "low";
+    else if (value - u > window.max) verdict = "high";
+    else verdict = "in range";
+    return ok({ ...base, ...withShort, verdict, margin, uncertainty: u });
+  },
+);
