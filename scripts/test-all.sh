@@ -20,6 +20,7 @@ fi
 echo "== type-check"; npm run typecheck
 echo "== lint"; npm run lint
 echo "== unit and integration tests"; npx vitest run
+echo "== integration tests against a real libSQL server (sqld)"; TEST_LIBSQL=1 npx vitest run tests/integration
 echo "== production build"; npm run build
 echo "== end-to-end tests (Chromium)"; npx playwright test
 echo "All test stages passed."
