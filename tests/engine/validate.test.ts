@@ -46,6 +46,16 @@ describe("validateMap", () => {
     expect(list.find((i) => i.code === "unreachable")?.nodeIds).toEqual(["lonely"]);
   });
 
+  it("treats a part fed by no net as always powered: a warning, and what it drives is reachable", () => {
+    const d = withDoc((d) => {
+      d.nodes.push(partNode("osc", "Y1"), railNode("clk"));
+      d.edges.push(edge("drives", "osc", "clk"));
+    });
+    const list = issues(d);
+    expect(list.find((i) => i.code === "part-no-input")).toMatchObject({ severity: "warning", nodeIds: ["osc"] });
+    expect(list.filter((i) => i.code === "unreachable")).toEqual([]);
+  });
+
   it("net without an expected range, duplicate designators, several drivers", () => {
     const d = withDoc((d) => {
       (d.nodes[3] as { expected: object }).expected = {};

@@ -228,11 +228,13 @@ export const validateMap = guard((input: unknown): Result<ValidationReport> => {
     }
   }
 
-  // Reachability from sources (a node nothing can power is unreachable).
+  // Reachability from sources and from input-less parts, which the simulation treats as always powered
+  // (the part-no-input warning says so); a node nothing can power is unreachable.
   const reach = new Uint8Array(doc.nodes.length);
   const stack: number[] = [];
   doc.nodes.forEach((n, i) => {
-    if (n.kind === "source" && g.index.get(n.id) === i) {
+    if (g.index.get(n.id) !== i) return;
+    if (n.kind === "source" || (n.kind === "part" && g.inn[i].length === 0)) {
       reach[i] = 1;
       stack.push(i);
     }
@@ -247,7 +249,6 @@ export const validateMap = guard((input: unknown): Result<ValidationReport> => {
   }
   doc.nodes.forEach((n, i) => {
     if (g.index.get(n.id) !== i || reach[i]) return;
-    if (n.kind === "part" && g.inn[i].length === 0) return;
     add({
       code: "unreachable",
       severity: "error",
