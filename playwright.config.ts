@@ -41,6 +41,7 @@ export default defineConfig({
       RAILWISE_BUILD_DIR: process.env.RAILWISE_BUILD_DIR ?? "build",
       SEED_DEMO: "1",
       MAIL_CAPTURE: "1",
+      SECURE_COOKIES: "0",
       SIGNIN_MAX_PER_ACCOUNT: "5",
       SIGNIN_MAX_PER_ADDRESS: "100000",
       SESSION_SECRET: "e2e-session-secret-0123456789",

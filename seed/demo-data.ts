@@ -20,7 +20,6 @@ export const DEMO_MEMBERS = [
   { userId: "demo-user-desk", role: "desk", name: "Sam Whitlow", email: "desk@harbor.example" },
 ] as const;
 
-
 export const DEMO_BOARDS = [
   {
     board: {

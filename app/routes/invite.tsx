@@ -17,7 +17,8 @@ import { audit } from "~/server/audit.server";
 import { db } from "~/server/db.server";
 import { newId } from "~/server/ids.server";
 import { members, shops } from "~/server/schema.server";
-import { createSession, sessionCookie } from "~/server/session.server";
+import { sessionCookie, startFreshSession } from "~/server/session.server";
+import { clientAddress, describeWait, recordSignInFailure, signInWaitMs } from "~/server/throttle.server";
 import { redirectWithToast } from "~/server/toast.server";
 import type { Route } from "./+types/invite";
 
@@ -42,7 +43,7 @@ export async function loader({ params }: Route.LoaderArgs) {
   };
 }
 
-export async function action({ request, params }: Route.ActionArgs) {
+export async function action({ request, params, context }: Route.ActionArgs) {
   const submission = parseWithZod(await request.formData(), { schema: AcceptInviteSchema });
   if (submission.status !== "success")
     return data({ result: submission.reply({ hideFields: ["password"] }) }, { status: 400 });
@@ -56,7 +57,13 @@ export async function action({ request, params }: Route.ActionArgs) {
   const existing = await findUserByEmail(invite.email);
   let userId: string;
   if (existing) {
+    // The same throttle as the sign-in form: an invitation link must not become a password-guessing oracle.
+    const address = clientAddress(request, context);
+    const wait = await signInWaitMs(invite.email, address);
+    if (wait > 0)
+      return data({ result: submission.reply({ formErrors: [describeWait(wait)] }) }, { status: 429 });
     const ok = await checkCredentials(invite.email, submission.value.password);
+    if (!ok) await recordSignInFailure(invite.email, address);
     if (!ok)
       return data(
         {
@@ -100,7 +107,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     subject: userId,
     data: { role: invite.role },
   });
-  const { token } = await createSession(userId, shop.id);
+  const { token } = await startFreshSession(request, userId, shop.id);
   return redirectWithToast(
     "/boards",
     { kind: "success", message: `You joined ${shop.name}.` },

@@ -6,7 +6,7 @@ import { Field, Honeypot } from "~/components/field";
 import { LoginSchema, safeRedirect } from "~/lib/auth-schemas";
 import { checkCredentials } from "~/server/accounts.server";
 import { listMemberships } from "~/server/auth.server";
-import { createSession, deleteSession, getSession, sessionCookie } from "~/server/session.server";
+import { getSession, sessionCookie, startFreshSession } from "~/server/session.server";
 import { clientAddress, describeWait, recordSignInFailure, signInWaitMs } from "~/server/throttle.server";
 import type { Route } from "./+types/login";
 
@@ -44,11 +44,8 @@ export async function action({ request, context }: Route.ActionArgs) {
       { status: 400 },
     );
   }
-  // A fresh session id at every sign-in; whatever session the browser carried before is ended.
-  const previous = await getSession(request);
-  if (previous) await deleteSession(previous.session.id);
   const shop = (await listMemberships(user.id))[0];
-  const { token } = await createSession(user.id, shop?.shopId ?? null);
+  const { token } = await startFreshSession(request, user.id, shop?.shopId ?? null);
   return redirect(safeRedirect(redirectTo), { headers: { "Set-Cookie": sessionCookie(token) } });
 }
 

@@ -4,7 +4,7 @@ import { data, Form, Link } from "react-router";
 import { AuthCard } from "~/components/auth-card";
 import { Field } from "~/components/field";
 import { ResetSchema } from "~/lib/auth-schemas";
-import { consumeToken, findLiveToken, setPassword } from "~/server/accounts.server";
+import { consumeToken, findLiveToken, retireResetTokens, setPassword } from "~/server/accounts.server";
 import { audit } from "~/server/audit.server";
 import { deleteAllSessions } from "~/server/session.server";
 import { redirectWithToast } from "~/server/toast.server";
@@ -31,6 +31,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     );
   }
   await setPassword(token.userId, submission.value.password);
+  await retireResetTokens(token.userId);
   // A new password ends every session, including any an intruder may hold.
   await deleteAllSessions(token.userId);
   await audit({ shopId: null, actorId: token.userId, action: "user.password-reset" });

@@ -6,7 +6,7 @@ import { Field, Honeypot } from "~/components/field";
 import { SignupSchema } from "~/lib/auth-schemas";
 import { createShopWithOwner, findUserByEmail } from "~/server/accounts.server";
 import { audit } from "~/server/audit.server";
-import { createSession, getSession, sessionCookie } from "~/server/session.server";
+import { getSession, sessionCookie, startFreshSession } from "~/server/session.server";
 import { clientAddress, describeWait, recordSignInFailure, signInWaitMs } from "~/server/throttle.server";
 import { redirectWithToast } from "~/server/toast.server";
 import type { Route } from "./+types/signup";
@@ -46,7 +46,7 @@ export async function action({ request, context }: Route.ActionArgs) {
   }
   const { userId, shopId } = await createShopWithOwner({ email, name, password, shopName });
   await audit({ shopId, actorId: userId, action: "shop.created", subject: shopId });
-  const { token } = await createSession(userId, shopId);
+  const { token } = await startFreshSession(request, userId, shopId);
   return redirectWithToast(
     "/boards",
     { kind: "success", message: `Welcome to Railwise. ${shopName} is ready; add your first board.` },

@@ -119,3 +119,11 @@ export async function countOwners(shopId: string) {
     .get();
   return row?.n ?? 0;
 }
+
+/** After a successful reset every other reset link of that user stops working too. */
+export async function retireResetTokens(userId: string) {
+  await db
+    .update(emailTokens)
+    .set({ usedAt: new Date() })
+    .where(and(eq(emailTokens.purpose, "reset"), eq(emailTokens.userId, userId), isNull(emailTokens.usedAt)));
+}

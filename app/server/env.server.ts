@@ -30,16 +30,22 @@ function readEnv(): Env {
   if (env.NODE_ENV === "production" && env.SESSION_SECRET.startsWith("dev-only") && env.SEED_DEMO !== "1") {
     console.warn("SESSION_SECRET is the development default; set your own in production.");
   }
+  // Captured mail is readable at /dev/outbox by anyone who can reach the server, reset links included, so in
+  // production it is only ever on when asked for by name; otherwise real mail needs an SMTP server.
+  if (env.NODE_ENV === "production" && env.MAIL_CAPTURE !== "1" && !env.SMTP_URL) {
+    throw new Error(
+      "Railwise cannot start: set SMTP_URL for outgoing e-mail in production (or MAIL_CAPTURE=1 for a local demo).",
+    );
+  }
   return env;
 }
 
 export const env = readEnv();
 
-/** Mail capture is on unless production says otherwise, so no path ever needs a real mail server. */
+/** Capture is the default in development and tests; in production only with MAIL_CAPTURE=1 (local demo). */
 export const mailCaptureOn = () =>
-  env.MAIL_CAPTURE ? env.MAIL_CAPTURE === "1" : env.NODE_ENV !== "production" || !env.SMTP_URL;
+  env.MAIL_CAPTURE ? env.MAIL_CAPTURE === "1" : env.NODE_ENV !== "production";
 
+/** Secure cookies in production unless SECURE_COOKIES=0 (a plain-http local demo). */
 export const secureCookies = () =>
-  env.SECURE_COOKIES
-    ? env.SECURE_COOKIES === "1"
-    : env.NODE_ENV === "production" && !!env.APP_URL?.startsWith("https:");
+  env.SECURE_COOKIES ? env.SECURE_COOKIES === "1" : env.NODE_ENV === "production";

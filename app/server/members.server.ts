@@ -1,5 +1,4 @@
-import { and, desc, eq, gt, isNull } from "drizzle-orm";
-import { countOwners } from "./accounts.server";
+import { and, desc, eq, gt, isNull, sql } from "drizzle-orm";
 import { db } from "./db.server";
 import { emailTokens, members, type Role, users } from "./schema.server";
 
@@ -55,15 +54,24 @@ export async function changeMember(
     .where(and(eq(members.id, memberId), eq(members.shopId, shopId)))
     .get();
   if (!target) return { ok: false, status: 404, message: "That member was not found in your shop." };
+  const lastOwner = {
+    ok: false as const,
+    status: 400 as const,
+    message: "A shop needs at least one owner. Make someone else owner first.",
+  };
+  // The owner count is part of the write's own condition, so two owners demoting each other at the same
+  // moment cannot both succeed and leave the shop without one.
+  const keepsAnOwner = sql`(${members.role} != 'owner' or (select count(*) from ${members} m2 where m2.shop_id = ${shopId} and m2.role = 'owner') > 1)`;
+  const where = and(eq(members.id, memberId), eq(members.shopId, shopId));
   const losesOwner = target.role === "owner" && ("remove" in change || change.role !== "owner");
-  if (losesOwner && (await countOwners(shopId)) <= 1) {
-    return {
-      ok: false,
-      status: 400,
-      message: "A shop needs at least one owner. Make someone else owner first.",
-    };
-  }
-  if ("remove" in change) await db.delete(members).where(eq(members.id, memberId));
-  else await db.update(members).set({ role: change.role }).where(eq(members.id, memberId));
+  const result =
+    "remove" in change
+      ? await db.delete(members).where(and(where, keepsAnOwner)).run()
+      : await db
+          .update(members)
+          .set({ role: change.role })
+          .where(losesOwner ? and(where, keepsAnOwner) : where)
+          .run();
+  if (result.rowsAffected !== 1) return lastOwner;
   return { ok: true };
 }

@@ -11,6 +11,11 @@ export function assertSameOrigin(request: Request) {
   const origin = request.headers.get("Origin");
   if (!origin) return;
   if (origin === "null") throw refuse();
-  const host = new URL(origin).host;
+  let host: string;
+  try {
+    host = new URL(origin).host;
+  } catch {
+    throw refuse();
+  }
   if (host !== new URL(request.url).host && host !== request.headers.get("Host")) throw refuse();
 }

@@ -109,3 +109,10 @@ export async function deleteExpiredSessions() {
 export async function switchSessionShop(sessionId: string, shopId: string) {
   await db.update(sessions).set({ shopId }).where(eq(sessions.id, sessionId));
 }
+
+/** Sign-in, sign-up and invitation acceptance all start here: a new session id, and the old one ended. */
+export async function startFreshSession(request: Request, userId: string, shopId: string | null) {
+  const previous = await getSession(request);
+  if (previous) await deleteSession(previous.session.id);
+  return createSession(userId, shopId);
+}

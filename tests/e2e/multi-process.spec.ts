@@ -14,6 +14,7 @@ async function startApp(databaseUrl: string) {
       HOST: "127.0.0.1",
       DATABASE_URL: databaseUrl,
       MAIL_CAPTURE: "1",
+      SECURE_COOKIES: "0",
       SEED_DEMO: "0",
       SESSION_SECRET: "multi-process-secret-0123456789",
       RAILWISE_BUILD_DIR: process.env.RAILWISE_BUILD_DIR ?? "build",

@@ -95,6 +95,44 @@ describe("owners", () => {
     );
   });
 
+  it("keeps one owner when two owners demote each other at the same moment", async () => {
+    const shop = await createShopWithRoles();
+    const lead = await db
+      .select()
+      .from(members)
+      .where(and(eq(members.shopId, shop.shopId), eq(members.role, "lead")))
+      .get();
+    await db.update(members).set({ role: "owner" }).where(eq(members.id, lead!.id));
+    const owner = await db
+      .select()
+      .from(members)
+      .where(and(eq(members.shopId, shop.shopId), eq(members.userId, shop.userIds.owner)))
+      .get();
+    const [a, b] = await Promise.all([
+      call(settings.action, {
+        request: formRequest(
+          "/settings",
+          { intent: "change-role", memberId: lead!.id, role: "tech" },
+          shop.cookies.owner,
+        ),
+      }),
+      call(settings.action, {
+        request: formRequest(
+          "/settings",
+          { intent: "change-role", memberId: owner!.id, role: "tech" },
+          shop.cookies.lead,
+        ),
+      }),
+    ]);
+    expect([a.status, b.status].sort()).toEqual([302, 400]);
+    const owners = await db
+      .select()
+      .from(members)
+      .where(and(eq(members.shopId, shop.shopId), eq(members.role, "owner")))
+      .all();
+    expect(owners).toHaveLength(1);
+  });
+
   it("changes another member's role", async () => {
     const shop = await createShopWithRoles();
     const tech = await db
@@ -167,6 +205,30 @@ describe("password reset", () => {
       params: { token },
     });
     expect(reuse.status).toBe(400);
+  });
+
+  it("retires older reset links once one of them is used", async () => {
+    const shop = await createShopWithRoles();
+    const email = `desk-${shop.shopId}@fixture.test`;
+    await call(forgot.action, { request: formRequest("/forgot-password", { email }) });
+    await call(forgot.action, { request: formRequest("/forgot-password", { email }) });
+    const [newer, older] = (await listCapturedEmail()).filter((m) => m.to === email);
+    const newToken = linkIn(newer.text, "/reset-password")!;
+    const oldToken = linkIn(older.text, "/reset-password")!;
+    expect(newToken).not.toBe(oldToken);
+    const done = await call(reset.action, {
+      request: formRequest(`/reset-password/${newToken}`, {
+        password: "the newest password",
+        confirm: "the newest password",
+      }),
+      params: { token: newToken },
+    });
+    expect(done.status).toBe(302);
+    const page = await call(reset.loader, {
+      request: getRequest(`/reset-password/${oldToken}`),
+      params: { token: oldToken },
+    });
+    expect(page.data).toEqual({ valid: false });
   });
 
   it("refuses an expired link", async () => {

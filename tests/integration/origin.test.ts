@@ -22,5 +22,6 @@ describe("resource-route origin check", () => {
       403,
     );
     expect((await call(theme.action, { request: post({ Origin: "null" }) })).status).toBe(403);
+    expect((await call(theme.action, { request: post({ Origin: "http://[not a host" }) })).status).toBe(403);
   });
 });
