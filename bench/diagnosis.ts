@@ -2,7 +2,15 @@
  * Diagnosis benchmark: strategies on random power-sequence maps. Not a test; prints figures and a
  * machine-readable RESULT line. Repeat a run with BENCH_SEED=<seed> npm run bench:diagnosis.
  */
-import { type MapDocument, type Priors, type RunSetup, type Strategy, startRun } from "../app/lib/engine";
+import {
+  analyse,
+  clearCompileCache,
+  type MapDocument,
+  type Priors,
+  type RunSetup,
+  type Strategy,
+  startRun,
+} from "../app/lib/engine";
 import { randomPowerMap } from "./lib/maps";
 import { expectedReadings, optimalReadings } from "./lib/policy";
 import { mulberry32, sampleIndex, shuffle, zipf } from "./lib/rng";
@@ -21,11 +29,21 @@ const rng = mulberry32(seed);
 const STRATEGIES: Strategy[] = ["order", "split", "best"];
 const CONDITION: RunSetup = { condition: { sourcesAttached: ["chg", "btn"] } };
 
-type Prepared = { doc: MapDocument; setup: RunSetup; faults: Fault[]; weights: number[]; priors: Priors };
+type Prepared = {
+  doc: MapDocument;
+  setup: RunSetup;
+  faults: Fault[];
+  weights: number[];
+  priors: Priors;
+  coldMs: number;
+};
 
 /** Zipf (s = 1) over the candidates in random order; the shop's history is drawn from it. */
 function prepare(doc: MapDocument): Prepared | null {
+  // First call on a document the engine has not seen: validation, compilation and the scenario (cold).
+  const t0 = performance.now();
   const run = startRun(doc, CONDITION);
+  const coldMs = performance.now() - t0;
   if (!run.ok) throw new Error(run.error.message);
   const cands = shuffle(rng, [...run.value.analysis.suspects]);
   if (cands.length < 2) return null;
@@ -38,7 +56,7 @@ function prepare(doc: MapDocument): Prepared | null {
     const k = sampleIndex(rng, weights);
     priors[cands[k].id] = (priors[cands[k].id] ?? 0) + 1;
   }
-  return { doc, setup: run.value.setup, faults, weights, priors };
+  return { doc, setup: run.value.setup, faults, weights, priors, coldMs };
 }
 
 const entropy = (p: number[]) => -p.reduce((s, x) => (x > 0 ? s + x * Math.log2(x) : s), 0);
@@ -49,6 +67,7 @@ const p95 = (xs: number[]) => {
 };
 
 const readings: Record<Strategy, number[]> = { order: [], split: [], best: [] };
+const coldAll: number[] = [];
 const correct: Record<Strategy, number[]> = { order: [], split: [], best: [] };
 const timing: Record<Strategy, number[]> = { order: [], split: [], best: [] };
 const noisyCorrect: number[] = [];
@@ -59,6 +78,7 @@ for (let i = 0; i < MAPS; i++) {
   const size = 40 + Math.floor(rng() * 161);
   const prep = prepare(randomPowerMap(rng, size));
   if (!prep) continue;
+  coldAll.push(prep.coldMs);
   entropies.push(entropy(prep.weights));
   for (let f = 0; f < FAULTS_PER_MAP; f++) {
     const fault = prep.faults[sampleIndex(rng, prep.weights)];
@@ -81,11 +101,35 @@ for (let i = 0; i < MAPS; i++) {
   }
 }
 
-// Time per next() (analyse + choice) on 200-node maps, after warm-up.
+// Time per next() (analyse + choice) on 200-node maps, after warm-up; the first call per map is reported
+// separately (cold), as is a request that parses the stored JSON afresh and passes the version id as cacheKey.
 const ms200: number[] = [];
+const cold200: number[] = [];
+const reparsedCached200: number[] = [];
+const reparsedUncached200: number[] = [];
+clearCompileCache();
 for (let i = 0; i < 20; i++) {
   const prep = prepare(randomPowerMap(rng, 200));
   if (!prep) continue;
+  cold200.push(prep.coldMs);
+  const json = JSON.stringify(prep.doc);
+  const key = `bench-map-${i}`;
+  for (let r = 0; r < 6; r++) {
+    const fresh = JSON.parse(json) as MapDocument;
+    const t0 = performance.now();
+    const a = analyse(fresh, prep.setup, [], { priors: prep.priors, costs: "uniform", cacheKey: key });
+    const dt = performance.now() - t0;
+    if (!a.ok) throw new Error(a.error.message);
+    // The first keyed call compiles; the later ones are what a server sees per request.
+    if (r > 0) reparsedCached200.push(dt);
+  }
+  for (let r = 0; r < 3; r++) {
+    const fresh = JSON.parse(json) as MapDocument;
+    const t0 = performance.now();
+    const a = analyse(fresh, prep.setup, [], { priors: prep.priors, costs: "uniform" });
+    reparsedUncached200.push(performance.now() - t0);
+    if (!a.ok) throw new Error(a.error.message);
+  }
   for (let f = 0; f < 5; f++) {
     const fault = prep.faults[sampleIndex(rng, prep.weights)];
     const out = simulateRun(rng, prep.doc, prep.setup, fault, "best", {
@@ -130,7 +174,13 @@ console.log(
 console.log(
   `next() on 200-node maps: mean ${fmt(mean(ms200))} ms, p95 ${fmt(p95(ms200))} ms, max ${fmt(Math.max(...ms200))} ms`,
 );
+console.log(
+  `first call per map (cold: validate + compile + scenario): all maps mean ${fmt(mean(coldAll))} ms, p95 ${fmt(p95(coldAll))} ms; 200-node maps mean ${fmt(mean(cold200))} ms, p95 ${fmt(p95(cold200))} ms`,
+);
+console.log(
+  `200-node map parsed afresh per request: with cacheKey p95 ${fmt(p95(reparsedCached200))} ms, without p95 ${fmt(p95(reparsedUncached200))} ms`,
+);
 console.log(`elapsed ${fmt((performance.now() - started) / 1000, 1)} s · seed ${seed}`);
 console.log(
-  `RESULT best_vs_order=${fmt(mean(readings.best) / mean(readings.order))} best_vs_split=${fmt(mean(readings.best) / mean(readings.split))} best_vs_optimal=${fmt(mean(smallRatios))} best_vs_entropy=${fmt(mean(readings.best) / H)} split_vs_order=${fmt(mean(readings.split) / mean(readings.order))} correct_clean=${fmt(mean(correct.best))} correct_noisy=${fmt(mean(noisyCorrect))} next_ms_200=${fmt(p95(ms200))}`,
+  `RESULT best_vs_order=${fmt(mean(readings.best) / mean(readings.order))} best_vs_split=${fmt(mean(readings.best) / mean(readings.split))} best_vs_optimal=${fmt(mean(smallRatios))} best_vs_entropy=${fmt(mean(readings.best) / H)} split_vs_order=${fmt(mean(readings.split) / mean(readings.order))} correct_clean=${fmt(mean(correct.best))} correct_noisy=${fmt(mean(noisyCorrect))} next_ms_200=${fmt(p95(ms200))} cold_ms_200=${fmt(p95(cold200))} reparsed_cached_ms_200=${fmt(p95(reparsedCached200))}`,
 );

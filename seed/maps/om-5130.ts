@@ -134,7 +134,7 @@ const nodes: MapNode[] = [
   {
     id: "sleep-s3-n",
     kind: "signal",
-    name: "SLEEP_S3_N",
+    name: "MAIN_PWR_EN",
     highV: 3.3,
     expected: { voltage: { min: 2.9, max: 3.5 } },
     probe: probe("TP31", 25),

@@ -97,12 +97,12 @@ const nodes: MapNode[] = [
     safety: "Live whenever the pack is connected.",
   }),
   part("u-chg", "charger", "U201", "Battery charger", {
-    value: "NVDC charger",
+    value: "Buck-boost charger",
     package: "QFN-32",
     fixes: [replace("Replace U201 charger IC"), reflow, clean],
   }),
   part("q-batfet", "mosfet", "Q205", "Battery FET", {
-    package: "PowerPAK 3x3",
+    package: "PQFN 3x3",
     fixes: [replace("Replace Q205 battery FET")],
   }),
   rail("vsys", "SYS_IN", 12.6, 0, {
@@ -180,8 +180,8 @@ const nodes: MapNode[] = [
       replace("Replace U500 controller"),
     ],
   }),
-  signal("sleep-s5-n", "SLEEP_S5_N", { probe: "TP51", stage: "S4" }),
-  signal("sleep-s3-n", "SLEEP_S3_N", { probe: "TP52", stage: "S0" }),
+  signal("sleep-s5-n", "MEM_PWR_EN", { probe: "TP51", stage: "S4" }),
+  signal("sleep-s3-n", "MAIN_PWR_EN", { probe: "TP52", stage: "S0" }),
   part("r-s5", "resistor", "R531", "Memory rail enable resistor", {
     value: "1K0",
     package: "0201",
@@ -220,7 +220,7 @@ const nodes: MapNode[] = [
     package: "SC-70",
     fixes: [replace("Replace U650")],
   }),
-  signal("sys-pg", "SYS_PWROK", { probe: "TP65", stage: "S0" }),
+  signal("sys-pg", "SYS_PG_OK", { probe: "TP65", stage: "S0" }),
   part("r-vcore-en", "resistor", "R705", "Core enable resistor", {
     value: "10K",
     package: "0201",

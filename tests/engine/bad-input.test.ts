@@ -2,31 +2,64 @@ import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import {
   analyse,
+  checkPreferred,
   compileMap,
+  compileMapCached,
+  expectedCostObserveFirst,
+  expectedCostOfRepair,
   failureRate,
   judge,
   judgeReading,
   mapFromJson,
+  mapToJson,
   nextReading,
+  orderRepairs,
   parseMapDocument,
   parseQuantity,
   parseRange,
   powerUpSequence,
+  rankByFailureRate,
+  type Result,
   startRun,
   validateMap,
 } from "~/lib/engine";
 import { chainMap } from "../../bench/lib/maps";
 import { OM_5150_MAP } from "../../seed/maps/om-5150";
 
-const isResult = (r: unknown) => expect(typeof (r as { ok: unknown }).ok).toBe("boolean");
+/**
+ * A typed result that is not the guard's catch-all: guard() turns a thrown exception into
+ * { ok: false, code: "internal" }, so bad input must be refused by validation with another code.
+ */
+const isResult = (r: unknown, what = "") => {
+  const x = r as Result<unknown>;
+  expect(typeof x.ok, what).toBe("boolean");
+  if (!x.ok) expect(x.error.code, `${what}: ${x.error.message}`).not.toBe("internal");
+};
+
+/** Values that break naive code: null prototypes (String() throws), BigInt, Map, sparse arrays, boxed values. */
+const exotic = {
+  withNullPrototype: true,
+  withBigInt: true,
+  withMap: true,
+  withSet: true,
+  withDate: true,
+  withTypedArray: true,
+  withSparseArray: true,
+  withBoxedValues: true,
+} as const;
+
+const actions = [
+  { id: "A", p: 0.5, cost: 10 },
+  { id: "B", p: 0.3, cost: 3 },
+];
 
 describe("bad input never escapes as an exception", () => {
   it("arbitrary values into every public function", () => {
     fc.assert(
       fc.property(
-        fc.anything({ maxDepth: 4 }),
-        fc.anything({ maxDepth: 3 }),
-        fc.anything({ maxDepth: 3 }),
+        fc.anything({ maxDepth: 4, ...exotic }),
+        fc.anything({ maxDepth: 3, ...exotic }),
+        fc.anything({ maxDepth: 3, ...exotic }),
         (x, y, z) => {
           isResult(validateMap(x));
           isResult(parseMapDocument(x));
@@ -43,9 +76,43 @@ describe("bad input never escapes as an exception", () => {
           isResult(failureRate(x as never, y as never));
           isResult(parseQuantity(x as never, y as never));
           isResult(parseRange(x as never, "V"));
+          isResult(parseRange(x as never, y as never));
+          isResult(mapToJson(x as never));
+          isResult(compileMapCached(x as never, y as never));
+          isResult(compileMapCached("fuzz", x as never));
+          isResult(analyse(OM_5150_MAP, { condition: { sourcesAttached: [] } }, [], x as never));
+          isResult(startRun(OM_5150_MAP, { condition: { sourcesAttached: [] } }, x as never));
+          isResult(checkPreferred(x as never, y as never));
+          isResult(rankByFailureRate(x as never));
+          isResult(orderRepairs(x as never));
+          isResult(expectedCostOfRepair(x as never));
+          isResult(expectedCostObserveFirst(x as never, y as never, z as never));
+          isResult(expectedCostObserveFirst(1, actions, x as never), "observe-first outcomes");
+          isResult(expectedCostObserveFirst(1, x as never, [["A"], ["B"]]));
+          isResult(failureRate(1, 2, x as never));
         },
       ),
       { numRuns: 400 },
+    );
+  });
+
+  it("rows and actions with arbitrary fields", () => {
+    fc.assert(
+      fc.property(
+        fc.array(
+          fc.record({ id: fc.anything(exotic), failures: fc.anything(exotic), runs: fc.anything(exotic) }),
+        ),
+        fc.array(fc.record({ id: fc.anything(exotic), p: fc.anything(exotic), cost: fc.anything(exotic) })),
+        fc.array(fc.array(fc.anything(exotic))),
+        (rows, acts, outcomes) => {
+          isResult(rankByFailureRate(rows as never), "rankByFailureRate");
+          isResult(orderRepairs(acts as never), "orderRepairs");
+          isResult(expectedCostOfRepair(acts as never), "expectedCostOfRepair");
+          isResult(expectedCostObserveFirst(1, actions, outcomes as never), "expectedCostObserveFirst");
+          isResult(expectedCostObserveFirst(1, acts as never, outcomes as never), "expectedCostObserveFirst");
+        },
+      ),
+      { numRuns: 500 },
     );
   });
 

@@ -1,5 +1,17 @@
 import { describe, expect, it } from "vitest";
-import { analyse, nextReading, type Reading, type RunSetup, startRun } from "~/lib/engine";
+import {
+  analyse,
+  COMPILE_CACHE_SIZE,
+  clearCompileCache,
+  compileMap,
+  compileMapCached,
+  MAX_CONTRADICTIONS,
+  nextReading,
+  type Reading,
+  type RunSetup,
+  startRun,
+} from "~/lib/engine";
+import { chainMap } from "../../bench/lib/maps";
 import { smallMap } from "./support/fixtures";
 
 const setup: RunSetup = { condition: { sourcesAttached: ["src"] } };
@@ -121,5 +133,70 @@ describe("inference", () => {
     const bad = analyse(smallMap(), { condition: { sourcesAttached: ["ghost"] } }, []);
     expect(bad.ok).toBe(false);
     expect(nextReading({}).ok).toBe(false);
+  });
+});
+
+describe("large inputs and caching", () => {
+  it("caps contradictions: a 2,000-node map with 1,000 contradicting readings returns a bounded result", () => {
+    const doc = chainMap(999);
+    expect(doc.nodes.length).toBe(2000);
+    const s: RunSetup = { condition: { sourcesAttached: ["src"] }, symptom: { missingNetIds: ["n999"] } };
+    // Early nets read missing while every later one reads present. n500 is read twice (missing, then present),
+    // so 499 missing × 500 present readings, each pair a "depends on missing" contradiction.
+    const readings: Reading[] = [
+      ...Array.from({ length: 500 }, (_, i) => V(`m${i}`, `n${i + 1}`, 0)),
+      ...Array.from({ length: 500 }, (_, i) => V(`p${i}`, `n${i + 500}`, 3.3)),
+    ];
+    expect(analyse(doc, s, [], {}).ok).toBe(true); // compile outside the timing
+    const t0 = performance.now();
+    const a = analyse(doc, s, readings);
+    const ms = performance.now() - t0;
+    if (!a.ok) throw new Error(a.error.message);
+    expect(a.value.contradictions.length).toBe(MAX_CONTRADICTIONS);
+    expect(MAX_CONTRADICTIONS).toBe(200);
+    expect(a.value.contradictionsOmitted).toBe(499 * 500 - MAX_CONTRADICTIONS);
+    expect(JSON.stringify(a.value).length).toBeLessThan(2_000_000);
+    expect(ms).toBeLessThan(3000);
+    // Below the cap nothing is omitted and the field is absent.
+    const few = analyse(doc, s, [V("a", "n1", 0), V("b", "n5", 3.3)]);
+    expect(few.ok && few.value.contradictions.length).toBe(1);
+    expect(few.ok && "contradictionsOmitted" in few.value).toBe(false);
+  }, 20_000);
+
+  it("compileMapCached reuses the compiled map for a document parsed afresh under the same key", () => {
+    clearCompileCache();
+    const text = JSON.stringify(chainMap(60));
+    const first = compileMapCached("version-1", JSON.parse(text));
+    const second = compileMapCached("version-1", JSON.parse(text));
+    expect(first.ok && second.ok && first.value === second.value).toBe(true);
+    // Without the key a fresh object compiles again.
+    const a = compileMap(JSON.parse(text));
+    const b = compileMap(JSON.parse(text));
+    expect(a.ok && b.ok && a.value === b.value).toBe(false);
+    // Through analyse/startRun options: the compiled map (and its scenarios) is reused.
+    const s: RunSetup = { condition: { sourcesAttached: ["src"] } };
+    const r1 = startRun(JSON.parse(text), s, { cacheKey: "version-2" });
+    const r2 = analyse(JSON.parse(text), s, [], { cacheKey: "version-2" });
+    const c2 = compileMapCached("version-2", JSON.parse(text));
+    expect(r1.ok && r2.ok && c2.ok).toBe(true);
+    if (c2.ok) expect(c2.value.scenarios.size).toBeGreaterThan(0);
+    // A small LRU: the oldest keys go once more than COMPILE_CACHE_SIZE are in use.
+    for (let i = 0; i < COMPILE_CACHE_SIZE + 1; i++) compileMapCached(`k${i}`, chainMap(2));
+    const evicted = compileMapCached("version-1", JSON.parse(text));
+    expect(evicted.ok && first.ok && evicted.value !== first.value).toBe(true);
+    expect(compileMapCached("", chainMap(2))).toMatchObject({ ok: false, error: { code: "invalid-input" } });
+    expect(analyse(chainMap(2), s, [], { cacheKey: 5 } as never).ok).toBe(false);
+  });
+
+  it("a repeated edge does not make a net look multiply driven", () => {
+    const doc = smallMap();
+    doc.edges.push({ id: "p1-b-again", from: "p1", to: "b", kind: "drives" });
+    const a = analyse(doc, setup, [V("1", "b", 0), R("2", "b", 0.2)]);
+    const plain = analyse(smallMap(), setup, [V("1", "b", 0), R("2", "b", 0.2)]);
+    expect(a.ok && plain.ok).toBe(true);
+    if (a.ok && plain.ok) {
+      expect(a.value.suspects).toEqual(plain.value.suspects);
+      expect(a.value.finding).toEqual(plain.value.finding);
+    }
   });
 });

@@ -88,6 +88,50 @@ describe("judge", () => {
     expect(meterUncertainty(61, meterA.voltage)).toBeCloseTo(0.61 + 0.3, 12);
   });
 
+  it("a reading inside its window is in range even below the missing/shorted threshold", () => {
+    // An active-low signal expected at 0..0.4 V: 0.05 V is healthy, although below the 0.1 V missing default.
+    expect(verdict(judge(v(0.05), { min: 0, max: 0.4 }))).toBe("in range");
+    // A core rail reading 0.5..5 Ω to ground when healthy: 0.8 Ω is in range, below the 1 Ω shorted default.
+    expect(verdict(judge(ohm(0.8), { min: 0.5, max: 5 }))).toBe("in range");
+    expect(verdict(judge(ohm(0.3), { min: 0.5, max: 5 }))).toBe("shorted");
+    // Overlap through the meter's uncertainty counts as well: 0.45 Ω ± 0.1 Ω reaches 0.5 Ω.
+    const meter: MeterProfile = {
+      resistance: [{ fullScale: 600, resolution: 0.1, pctOfReading: 0, counts: 1 }],
+    };
+    expect(verdict(judge(ohm(0.45), { min: 0.5, max: 5 }, meter))).toBe("in range");
+    expect(verdict(judge({ mode: "diode", value: 0.01 }, { min: 0, max: 0.7 }))).toBe("in range");
+    // Outside the window the thresholds still apply.
+    expect(verdict(judge(v(0.05), { min: 0.2, max: 0.4 }))).toBe("missing");
+    // Above a near-zero window is high, not missing, even under the missing threshold.
+    expect(verdict(judge(v(0.06), { min: 0, max: 0.04 }))).toBe("high");
+  });
+
+  it("ignores thresholds that are not finite non-negative numbers", () => {
+    const w = { nominal: 3.3, tolerancePct: 5 };
+    for (const bad of [Number.NaN, -1, Number.POSITIVE_INFINITY, "0.5" as unknown as number]) {
+      const r = judge(v(0.3), w, undefined, { missingV: bad, shortedOhm: bad });
+      // Default missing threshold max(0.1 V, 5 % × 3.3 V) = 0.165 V: 0.3 V is low, not missing.
+      expect(r.ok && r.value.verdict, String(bad)).toBe("low");
+      expect(r.ok && r.value.missingThresholdV, String(bad)).toBeCloseTo(0.165, 12);
+      const o = judge(ohm(0.5), { min: 100, max: 1e5 }, undefined, { shortedOhm: bad });
+      expect(o.ok && o.value.shortedThresholdOhm, String(bad)).toBe(1);
+    }
+    expect(verdict(judge(v(0.3), w, undefined, null as never))).toBe("low");
+  });
+
+  // The 600.0 V range of the worked example, ±(1 % + 3): 2.2 V ± 0.322 V → 1.878..2.522 V. In floating point
+  // 2.2 − 0.322 is 1.8780000000000001, so the exact boundary needs a relative tolerance.
+  it("exact meter boundaries are in range despite binary rounding", () => {
+    const m: MeterProfile = { voltage: [{ fullScale: 600, resolution: 0.1, pctOfReading: 1, counts: 3 }] };
+    expect(meterUncertainty(2.2, m.voltage)).toBeCloseTo(0.322, 12);
+    expect(verdict(judge(v(2.2), { min: 1, max: 1.878 }, m))).toBe("in range");
+    expect(verdict(judge(v(2.2), { min: 2.522, max: 3 }, m))).toBe("in range");
+    expect(verdict(judge(v(2.2), { min: 1, max: 1.8779 }, m))).toBe("high");
+    expect(verdict(judge(v(2.2), { min: 2.5221, max: 3 }, m))).toBe("low");
+    // Without a meter, the window edges themselves: 3.3 V ± 10 % computes to 2.9699999999999998..3.6300000000000003.
+    expect(verdict(judge(v(2.97), { nominal: 3.3, tolerancePct: 10 }))).toBe("in range");
+  });
+
   it("refuses bad input without throwing", () => {
     expect(judge(v(Number.NaN), { min: 0, max: 1 }).ok).toBe(false);
     expect(judge(v(1), { min: 2, max: 1 }).ok).toBe(false);

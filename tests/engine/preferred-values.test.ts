@@ -12,8 +12,14 @@ describe("IEC 60063 preferred values", () => {
   it("stores the series exactly", () => {
     expect([...E12]).toEqual(e12);
     expect([...E24]).toEqual(e24);
-    // The rounded formula 10^(i/24) gives 2.6 instead of 2.7 (and others), which is why the series are literals.
-    expect(Math.round(10 ** (5 / 24) * 10) / 10).not.toBe(e24[10]);
+    // The rounded formula 10^(i/24) gives 2.6 at i = 10 where IEC 60063 says 2.7 (and others differ too),
+    // which is why the series are literals.
+    expect(e24[10]).toBe(2.7);
+    expect(Math.round(10 ** (10 / 24) * 10) / 10).toBe(2.6);
+    expect(E24[10]).toBe(2.7);
+    const formula = Array.from({ length: 24 }, (_, i) => Math.round(10 ** (i / 24) * 10) / 10);
+    const wrong = formula.flatMap((x, i) => (x === e24[i] ? [] : [i]));
+    expect(wrong).toEqual([10, 11, 12, 13, 14, 15, 16, 22]);
     // IEC 60063 E96: round(100·10^(i/96))/100 gives all 96 values (e.g. 1.00, 1.02, 4.75, 9.76).
     expect(E96).toHaveLength(96);
     expect([E96[0], E96[1], E96[65], E96[95]]).toEqual([1.0, 1.02, 4.75, 9.76]);

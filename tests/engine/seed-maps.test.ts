@@ -17,6 +17,18 @@ describe("demo maps", () => {
     expect(doc.nodes.length).toBeLessThanOrEqual(hi);
   });
 
+  // Demo data must not borrow real makers' signal names or package trademarks.
+  it.each([
+    ["OM-5150", OM_5150_MAP],
+    ["OM-5130", OM_5130_MAP],
+  ] as const)("%s uses only invented, neutral names", (_n, doc: MapDocument) => {
+    const borrowed =
+      /PWROK|PowerPAK|DirectFET|LFPAK|SuperSO|TDSON|PCH_|SLP_|SLEEP_S\d|RSMRST|VCCIN|SUS[BC]|DPWROK|NVDC/i;
+    for (const n of doc.nodes)
+      for (const text of [n.name, "package" in n ? n.package : "", "value" in n ? n.value : ""])
+        expect(text ?? "", n.id).not.toMatch(borrowed);
+  });
+
   it("OM-5150: an open series resistor on the 3.3 V standby enable is isolated", () => {
     const r362 = OM_5150_MAP.nodes.find((n) => n.id === "r-en3");
     expect(r362).toMatchObject({ kind: "part", partType: "resistor", refdes: "R362" });

@@ -133,16 +133,24 @@ describe("SI prefixes and units", () => {
         fc.string({ unit: "binary", maxLength: 300 }),
         fc.constantFrom<Unit>("V", "A", "ohm", "F"),
         (s, u) => {
+          // guard() turns an exception into { ok: false, code: "internal" }: that must never happen.
           const r = parseQuantity(s, u);
           expect(typeof r.ok).toBe("boolean");
+          expect(!r.ok && r.error.code, s).not.toBe("internal");
           if (r.ok && r.value.value !== "OL") expect(Number.isFinite(r.value.value)).toBe(true);
-          expect(typeof parseRange(s, u).ok).toBe("boolean");
+          const range = parseRange(s, u);
+          expect(typeof range.ok).toBe("boolean");
+          expect(!range.ok && range.error.code, s).not.toBe("internal");
         },
       ),
       { numRuns: 3000 },
     );
     expect(parseQuantity(null as unknown as string, "V").ok).toBe(false);
     expect(parseQuantity("3", "W" as Unit).ok).toBe(false);
+    expect(parseRange("1..2", { __proto__: null } as unknown as Unit)).toMatchObject({
+      ok: false,
+      error: { code: "invalid-input" },
+    });
   });
 });
 
@@ -155,5 +163,43 @@ describe("expected-range text", () => {
     expect(parseRange("10k to 1M", "ohm")).toEqual({ ok: true, value: { min: 10e3, max: 1e6 } });
     expect(parseRange("3.63..2.97", "V").ok).toBe(false);
     expect(parseRange("3.3", "V").ok).toBe(false);
+  });
+});
+
+describe("ambiguous and alternative spellings", () => {
+  it('refuses "4R7R" (the code already carries its unit) and repeated unit letters', () => {
+    for (const [bad, u] of [
+      ["4R7R", "ohm"],
+      ["4K7R", "ohm"],
+      ["100RR", "ohm"],
+      ["3V3V", "V"],
+    ] as const) {
+      const r = parseQuantity(bad, u);
+      expect(r.ok, bad).toBe(false);
+      if (!r.ok) expect(r.error.message, bad).toMatch(/ambiguous/);
+    }
+  });
+
+  it('refuses "1,000": a thousands separator or a decimal comma?', () => {
+    const r = parseQuantity("1,000", "V");
+    expect(r).toMatchObject({ ok: false, error: { code: "parse" } });
+    if (!r.ok) expect(r.error.message).toBe('"1,000" is ambiguous: write 1000 or 1.0.');
+    for (const bad of ["4,700 ohm", "2,500 mV", "-1,000", "1,000k"])
+      expect(parseQuantity(bad, bad.includes("ohm") || bad.endsWith("k") ? "ohm" : "V").ok, bad).toBe(false);
+    // One or two decimals after the comma, or a leading 0, cannot be a thousands group.
+    close(val("3,3", "V"), 3.3);
+    close(val("1,5k", "ohm"), 1500);
+    close(val("0,100", "V"), 0.1);
+    close(val("12,34", "V"), 12.34);
+  });
+
+  it("accepts a Unicode minus and a spelled-out or symbol unit after the code", () => {
+    close(val("\u22120.2", "V"), -0.2);
+    close(val("\u22120,2 V", "V"), -0.2);
+    close(val("4K7 ohm", "ohm"), 4700);
+    close(val("4k7Ω", "ohm"), 4700);
+    close(val("4R7 ohm", "ohm"), 4.7);
+    close(val("4u7F", "F"), 4.7e-6);
+    expect(parseRange("\u22120.5..0.5 V", "V")).toEqual({ ok: true, value: { min: -0.5, max: 0.5 } });
   });
 });

@@ -52,7 +52,10 @@ describe("validateMap", () => {
       d.edges.push(edge("drives", "osc", "clk"));
     });
     const list = issues(d);
-    expect(list.find((i) => i.code === "part-no-input")).toMatchObject({ severity: "warning", nodeIds: ["osc"] });
+    expect(list.find((i) => i.code === "part-no-input")).toMatchObject({
+      severity: "warning",
+      nodeIds: ["osc"],
+    });
     expect(list.filter((i) => i.code === "unreachable")).toEqual([]);
   });
 
@@ -69,6 +72,43 @@ describe("validateMap", () => {
     // Marked as shared (an OR-ed supply), two drivers are fine.
     (d.nodes[3] as { sharedDrivers?: true }).sharedDrivers = true;
     expect(codes(d)).not.toContain("multiple-drivers");
+  });
+
+  it("reports a repeated edge once as duplicate-edge and does not count its driver twice", () => {
+    const d = withDoc((d) => {
+      d.edges.push({ id: "p1-b-again", from: "p1", to: "b", kind: "drives" });
+    });
+    const list = issues(d);
+    expect(list.map((i) => i.code)).toEqual(["duplicate-edge"]);
+    expect(list[0]).toMatchObject({
+      severity: "warning",
+      nodeIds: ["p1", "b"],
+      edgeIds: ["p1-b", "p1-b-again"],
+    });
+    expect(list[0].message).not.toMatch(/driven by/);
+  });
+
+  it("warns when an expected window starts below the missing or shorted threshold", () => {
+    const d = withDoc((d) => {
+      // An active-low signal expected at 0..0.4 V; the default missing threshold is max(0.1 V, 5 % of 3.3 V).
+      (d.nodes[3] as { expected: object }).expected = { voltage: { min: 0, max: 0.4 } };
+      // A rail that reads 0.5..5 Ω to ground when healthy, below a 1 Ω shorted threshold set on the map.
+      (d.nodes[5] as { expected: object }).expected = {
+        voltage: { nominal: 3.3, tolerancePct: 5 },
+        resistance: { min: 0.5, max: 5 },
+      };
+    });
+    const w = issues(d).filter((i) => i.code === "window-below-threshold");
+    expect(w.map((i) => [i.nodeIds[0], i.severity])).toEqual([
+      ["b", "warning"],
+      ["c", "warning"],
+    ]);
+    expect(w[0].message).toMatch(/a healthy reading could look missing/);
+    expect(w[1].message).toMatch(/a healthy reading could look shorted/);
+    // A map-level threshold below the window clears the warning.
+    d.settings.shortedThresholdOhm = 0.2;
+    d.settings.missingThresholdV = 0;
+    expect(codes(d)).not.toContain("window-below-threshold");
   });
 
   it("stage tag contradicting the order: an S0 net feeding the part that makes an S5 net", () => {

@@ -24,7 +24,13 @@ export {
   type MeterRange,
   type Verdict,
 } from "./judge";
-export { compileMap, type CompiledMap } from "./model";
+export {
+  compileMap,
+  compileMapCached,
+  clearCompileCache,
+  COMPILE_CACHE_SIZE,
+  type CompiledMap,
+} from "./model";
 export {
   analyse,
   startRun,
@@ -32,6 +38,7 @@ export {
   ReadingSchema,
   RunSetupSchema,
   MAX_READINGS,
+  MAX_CONTRADICTIONS,
   type Analysis,
   type AnalyseOptions,
   type Contradiction,

@@ -13,6 +13,7 @@ import { judge, type Judgement, type MeterProfile, MeterProfileSchema, type Verd
 import {
   type CompiledMap,
   compileMap,
+  compileMapCached,
   defaultSymptom,
   dependents,
   netOf,
@@ -52,6 +53,11 @@ export type AnalyseOptions = {
   costs?: CostModel;
   /** `best` refines its greedy pick by a one-step rollout on small suspect sets (default true). */
   rollout?: boolean;
+  /**
+   * Stable key of this exact document (e.g. the map version id): the compiled map is kept in a small LRU
+   * under it, so a document parsed afresh per request still reuses the compiled map and its scenarios.
+   */
+  cacheKey?: string;
 };
 const AnalyseOptionsSchema = z
   .object({
@@ -60,6 +66,8 @@ const AnalyseOptionsSchema = z
     costs: z
       .union([z.literal("probe-time"), z.literal("uniform"), z.record(z.string(), z.number())])
       .optional(),
+    rollout: z.boolean().optional(),
+    cacheKey: z.string().min(1).max(200).optional(),
   })
   .optional();
 
@@ -108,7 +116,10 @@ export type Analysis = {
   suspects: Suspect[];
   isolated: boolean;
   finding: Finding | null;
+  /** At most MAX_CONTRADICTIONS (200) are listed. */
   contradictions: Contradiction[];
+  /** How many further contradictions were found but not listed (absent when none). */
+  contradictionsOmitted?: number;
   next: NextStep | null;
 };
 
@@ -266,7 +277,8 @@ function analyseCore(
   let suspectsIdx: number[] = [];
   for (let k = 0; k < C; k++) if (mism[k] === 0) suspectsIdx.push(k);
 
-  const contradictions = findContradictions(m, s, obs);
+  const found = findContradictions(m, s, obs);
+  const contradictions = found.list;
   let fallback = false;
   if (!suspectsIdx.length && !healthyOk && C) {
     const least = Math.min(...Array.from(mism));
@@ -326,8 +338,18 @@ function analyseCore(
     priors: options?.priors,
     costs,
     strategy,
+    noRollout: options?.rollout === false,
   };
-  const next = chooseNext({ m, s, suspects: suspectsIdx, weights, disassembled, costs, strategy });
+  const next = chooseNext({
+    m,
+    s,
+    suspects: suspectsIdx,
+    weights,
+    disassembled,
+    costs,
+    strategy,
+    noRollout: state.noRollout,
+  });
 
   let finding: Finding | null = null;
   let isolated = false;
@@ -365,6 +387,7 @@ function analyseCore(
     isolated,
     finding,
     contradictions,
+    ...(found.omitted ? { contradictionsOmitted: found.omitted } : {}),
     next: isolated ? null : next,
   };
   runStates.set(analysis, state);
@@ -408,51 +431,65 @@ function findingFor(m: CompiledMap, s: Scenario, k: number, obs: Obs[]): Finding
   };
 }
 
-function findContradictions(m: CompiledMap, s: Scenario, obs: Obs[]): Contradiction[] {
+/** At most this many contradictions are listed; the rest are counted in `contradictionsOmitted`. */
+export const MAX_CONTRADICTIONS = 200;
+
+function findContradictions(
+  m: CompiledMap,
+  s: Scenario,
+  obs: Obs[],
+): { list: Contradiction[]; omitted: number } {
   const out: Contradiction[] = [];
+  let omitted = 0;
+  const push = (make: () => Contradiction) => {
+    if (out.length < MAX_CONTRADICTIONS) out.push(make());
+    else omitted++;
+  };
   const name = (v: number) => netOf(m, v).name;
   const vPresent = obs.filter((o) => o.kind === "v" && o.value === 1);
   const vMissing = obs.filter((o) => o.kind === "v" && o.value === 0 && s.baseline[o.net]);
   for (const a of vPresent) {
     if (!s.baseline[a.net]) {
-      out.push({
+      push(() => ({
         kind: "not-powered",
         readingIds: [a.readingId],
         netIds: [m.ids[a.net]],
         message: `${name(a.net)} reads present, but no attached source powers it under this condition. Check the condition or the reading.`,
-      });
+      }));
       continue;
     }
     for (const b of vMissing) {
       if (a.net === b.net) continue;
       if (!dependents(m, s, b.net)[a.net])
-        out.push({
+        push(() => ({
           kind: "depends-on-missing",
           readingIds: [a.readingId, b.readingId],
           netIds: [m.ids[a.net], m.ids[b.net]],
           message: `${name(a.net)} reads present but depends on ${name(b.net)}, which reads missing. One of the two readings is wrong: measure both again.`,
-        });
+        }));
     }
   }
+  const presentByNet = new Map<number, Obs>();
+  for (const p of vPresent) if (!presentByNet.has(p.net)) presentByNet.set(p.net, p);
   for (const o of obs) {
     if (o.kind !== "r" || o.value !== 1) continue;
     if (!s.candidateIndex.has(`short:${m.ids[o.net]}`))
-      out.push({
+      push(() => ({
         kind: "unmodelled-short",
         readingIds: [o.readingId],
         netIds: [m.ids[o.net]],
         message: `${name(o.net)} reads shorted, but the map gives it no resistance-to-ground expectation; the lead should add one.`,
-      });
-    const v = vPresent.find((p) => p.net === o.net);
+      }));
+    const v = presentByNet.get(o.net);
     if (v)
-      out.push({
+      push(() => ({
         kind: "short-but-present",
         readingIds: [v.readingId, o.readingId],
         netIds: [m.ids[o.net]],
         message: `${name(o.net)} reads present live but shorted to ground unpowered. Measure it again.`,
-      });
+      }));
   }
-  return out;
+  return { list: out, omitted };
 }
 
 /** Analyses a run: suspects with probabilities, proven nets, the finding, contradictions and the next reading. */
@@ -463,7 +500,9 @@ export const analyse = guard(
     readings: Reading[],
     options?: AnalyseOptions,
   ): Result<Analysis> => {
-    const c = isCompiled(doc) ? ok(doc) : compileMap(doc as MapDocument);
+    const o = parseOptions(options);
+    if (!o.ok) return o;
+    const c = compileFor(doc, o.value);
     if (!c.ok) return c;
     const st = RunSetupSchema.safeParse(setup);
     if (!st.success)
@@ -480,15 +519,26 @@ export const analyse = guard(
         );
       rs.push(p.data);
     }
-    const o = AnalyseOptionsSchema.safeParse(options);
-    if (!o.success)
-      return fail(
-        "invalid-input",
-        "Options: strategy is order|split|best; priors and costs are maps of numbers.",
-      );
-    return analyseCore(c.value, st.data, rs, o.data);
+    return analyseCore(c.value, st.data, rs, o.value);
   },
 );
+
+function parseOptions(options: unknown): Result<AnalyseOptions | undefined> {
+  const o = AnalyseOptionsSchema.safeParse(options);
+  if (!o.success)
+    return fail(
+      "invalid-input",
+      "Options: strategy is order|split|best; priors and costs are maps of numbers; rollout is true|false; cacheKey is a string.",
+    );
+  return ok(o.data);
+}
+
+function compileFor(doc: MapDocument | CompiledMap, options: AnalyseOptions | undefined) {
+  if (isCompiled(doc)) return ok(doc);
+  return options?.cacheKey
+    ? compileMapCached(options.cacheKey, doc as MapDocument)
+    : compileMap(doc as MapDocument);
+}
 
 function isCompiled(x: unknown): x is CompiledMap {
   return (
@@ -502,7 +552,9 @@ function isCompiled(x: unknown): x is CompiledMap {
 
 /** Starts a run: fills in the default symptom and returns the first analysis (with the first reading to take). */
 export const startRun = guard((doc: MapDocument, setup: RunSetup, options?: AnalyseOptions): Result<Run> => {
-  const c = compileMap(doc);
+  const o = parseOptions(options);
+  if (!o.ok) return o;
+  const c = compileFor(doc, o.value);
   if (!c.ok) return c;
   const st = RunSetupSchema.safeParse(setup);
   if (!st.success)
@@ -517,7 +569,7 @@ export const startRun = guard((doc: MapDocument, setup: RunSetup, options?: Anal
     match: "any" as const,
   };
   const full = { ...st.data, symptom };
-  const a = analyse(c.value, full, [], options);
+  const a = analyse(c.value, full, [], o.value);
   if (!a.ok) return a;
   const warnings: string[] = [];
   const s = runStates.get(a.value)!.s;

@@ -32,6 +32,19 @@ export const DIODE_SHORTED_V = 0.02;
 
 export type Thresholds = { missingV?: number; shortedOhm?: number };
 
+/** Relative tolerance applied at window edges (meter boundary values). */
+export const BOUNDARY_EPSILON = 1e-9;
+
+const usable = (x: unknown): number | undefined =>
+  typeof x === "number" && Number.isFinite(x) && x >= 0 ? x : undefined;
+
+/** Thresholds that are not finite non-negative numbers are ignored (the defaults apply). */
+export function cleanThresholds(t: unknown): Thresholds {
+  if (!t || typeof t !== "object") return {};
+  const o = t as Record<string, unknown>;
+  return { missingV: usable(o.missingV), shortedOhm: usable(o.shortedOhm) };
+}
+
 export type Judgement = {
   verdict: Verdict;
   /** Distance to the nearest window edge in SI units (positive inside, negative outside); 0 for OL. */
@@ -92,9 +105,9 @@ export const judge = guard(
     const { mode, value } = r.data;
     const window = windowOf(e.data);
     const nominal = nominalOf(e.data);
-    const missingV =
-      thresholds?.missingV ?? Math.max(DEFAULT_MISSING_V, DEFAULT_MISSING_FRACTION * Math.abs(nominal));
-    const shortedOhm = thresholds?.shortedOhm ?? DEFAULT_SHORTED_OHM;
+    const t = cleanThresholds(thresholds);
+    const missingV = t.missingV ?? Math.max(DEFAULT_MISSING_V, DEFAULT_MISSING_FRACTION * Math.abs(nominal));
+    const shortedOhm = t.shortedOhm ?? DEFAULT_SHORTED_OHM;
     const base = { window, missingThresholdV: mode === "voltage" ? missingV : undefined };
     const withShort = mode === "resistance" ? { shortedThresholdOhm: shortedOhm } : {};
     if (value === "OL") {
@@ -108,13 +121,22 @@ export const judge = guard(
     }
     const u = meterUncertainty(value, meter?.[mode]);
     const margin = Math.min(value - window.min, window.max - value);
+    // A tiny relative slack so exact boundary values (e.g. 2.000 V ± 0.0036 V against 2.0036 V) are not
+    // lost to binary rounding of the window or of the uncertainty.
+    const slack = BOUNDARY_EPSILON * Math.max(Math.abs(value), Math.abs(window.min), Math.abs(window.max));
     let verdict: Verdict;
-    if (mode === "voltage" && Math.abs(value) < missingV) verdict = "missing";
-    else if (mode === "resistance" && value < shortedOhm) verdict = "shorted";
-    else if (mode === "diode" && value < DIODE_SHORTED_V) verdict = "shorted";
-    else if (value + u < window.min) verdict = "low";
-    else if (value - u > window.max) verdict = "high";
-    else verdict = "in range";
+    // A reading whose uncertainty interval overlaps the window is in range, whatever the thresholds say;
+    // the missing/shorted thresholds only apply to readings outside the window.
+    if (value + u < window.min - slack) {
+      if (mode === "voltage" && Math.abs(value) < missingV) verdict = "missing";
+      else if (mode === "resistance" && value < shortedOhm) verdict = "shorted";
+      else if (mode === "diode" && value < DIODE_SHORTED_V) verdict = "shorted";
+      else verdict = "low";
+    } else if (value - u > window.max + slack) {
+      // Above the window is high even under the missing threshold (a signal expected near 0 V that reads
+      // a little more is not absent).
+      verdict = "high";
+    } else verdict = "in range";
     return ok({ ...base, ...withShort, verdict, margin, uncertainty: u });
   },
 );

@@ -113,6 +113,37 @@ export const compileMap = guard((doc: MapDocument): Result<CompiledMap> => {
   return ok(compiled);
 });
 
+/** Entries kept by `compileMapCached`. */
+export const COMPILE_CACHE_SIZE = 32;
+const keyed = new Map<string, CompiledMap>();
+
+/**
+ * Like `compileMap`, but also keyed by a string that names this exact document (e.g. the map version id),
+ * in a small LRU of `COMPILE_CACHE_SIZE` entries. A document parsed afresh from the database per request
+ * misses the per-object cache; under its version id it reuses the compiled map and its computed scenarios.
+ * The key must change whenever the document does (version ids are immutable, so they qualify).
+ */
+export const compileMapCached = guard((key: string, doc: MapDocument): Result<CompiledMap> => {
+  if (typeof key !== "string" || !key || key.length > 200)
+    return fail("invalid-input", "The cache key must be a non-empty string of at most 200 characters.");
+  const hit = keyed.get(key);
+  if (hit) {
+    keyed.delete(key);
+    keyed.set(key, hit);
+    return ok(hit);
+  }
+  const c = compileMap(doc);
+  if (!c.ok) return c;
+  keyed.set(key, c.value);
+  while (keyed.size > COMPILE_CACHE_SIZE) keyed.delete(keyed.keys().next().value as string);
+  return c;
+});
+
+/** Clears the keyed compile cache (tests, or after a bulk map migration). */
+export function clearCompileCache(): void {
+  keyed.clear();
+}
+
 /**
  * Which nets are present under a single fault. A net is present when an attached source supplies it,
  * or a healthy driving part has every feeding net present. `downNets` are forced missing (a short).

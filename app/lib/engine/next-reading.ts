@@ -152,12 +152,23 @@ function pickBest(ctx: ChooseContext, list: Test[], total: number): Test | null 
   return best;
 }
 
+/** Voltage signature of a candidate (which nets it takes down), computed once per candidate. */
+const signatures = new WeakMap<Candidate, string>();
+function signature(c: Candidate): string {
+  let sig = signatures.get(c);
+  if (sig === undefined) {
+    sig = c.missList.join(",");
+    signatures.set(c, sig);
+  }
+  return sig;
+}
+
 function pickSplit(ctx: ChooseContext, list: Test[]): Test | null {
   const { s } = ctx;
   const classes = new Map<string, Candidate>();
   for (const k of ctx.suspects) {
     const c = s.candidates[k];
-    const key = c.missList.join(",");
+    const key = signature(c);
     if (!classes.has(key)) classes.set(key, c);
   }
   const K = classes.size;

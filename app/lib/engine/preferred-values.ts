@@ -20,7 +20,7 @@ export type PreferredCheck = { preferred: boolean; nearest: number; deviationPct
 
 /** Whether a positive value is in a preferred series, and its nearest preferred value (log distance). */
 export const checkPreferred = guard((value: number, series: Series = "E24"): Result<PreferredCheck> => {
-  const list = SERIES[series];
+  const list = typeof series === "string" && Object.hasOwn(SERIES, series) ? SERIES[series] : undefined;
   if (!list) return fail("invalid-input", "Series must be E6, E12, E24 or E96.");
   if (typeof value !== "number" || !Number.isFinite(value) || value <= 0)
     return fail("invalid-input", "A preferred value check needs a positive finite number.");

@@ -9,6 +9,7 @@ const ActionsSchema = z
     z.object({ id: z.string().max(200), p: z.number().min(0).max(1), cost: z.number().positive().finite() }),
   )
   .max(10_000);
+const OutcomesSchema = z.array(z.array(z.string().max(200)).max(10_000)).max(1_000);
 
 /**
  * Expected cost of repair when the actions are tried in this order until one fixes the fault:
@@ -55,14 +56,20 @@ export const orderRepairs = guard(
  */
 export const expectedCostObserveFirst = guard(
   (testCost: number, actions: RepairAction[], outcomes: string[][]): Result<number> => {
-    if (!(testCost >= 0 && Number.isFinite(testCost)))
+    if (!(typeof testCost === "number" && testCost >= 0 && Number.isFinite(testCost)))
       return fail("invalid-input", "The test cost must be ≥ 0.");
     const parsed = ActionsSchema.safeParse(actions);
     if (!parsed.success)
       return fail("invalid-input", "Each action needs an id, a probability and a positive cost.");
+    const out = OutcomesSchema.safeParse(outcomes);
+    if (!out.success)
+      return fail(
+        "invalid-input",
+        "Outcomes must be a list (at most 1,000) of lists of action ids, one list per test outcome.",
+      );
     const total = parsed.data.reduce((s, a) => s + a.p, 0);
     let cost = testCost;
-    for (const ids of outcomes) {
+    for (const ids of out.data) {
       const members = parsed.data.filter((a) => ids.includes(a.id));
       const mass = members.reduce((s, a) => s + a.p, 0);
       if (!mass) continue;

@@ -28,10 +28,17 @@ export function buildGraph(doc: Pick<MapDocument, "nodes" | "edges">): Graph {
   const out: number[][] = ids.map(() => []);
   const inn: number[][] = ids.map(() => []);
   const edgesOut: MapEdge[][] = ids.map(() => []);
+  // A repeated from → to link is kept once (validation reports it as duplicate-edge), so a part is never
+  // counted twice as a net's driver.
+  const seen = new Set<number>();
+  const n = ids.length;
   for (const e of doc.edges) {
     const a = index.get(e.from);
     const b = index.get(e.to);
     if (a === undefined || b === undefined) continue;
+    const key = a * n + b;
+    if (seen.has(key)) continue;
+    seen.add(key);
     out[a].push(b);
     inn[b].push(a);
     edgesOut[a].push(e);

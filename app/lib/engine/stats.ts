@@ -35,7 +35,9 @@ export const rankByFailureRate = guard(
       return fail("invalid-input", "Expected up to 100,000 rows.");
     const out: (FailureRate & { id: string })[] = [];
     for (const r of rows) {
-      const f = failureRate(r?.failures, r?.runs);
+      if (!r || typeof r !== "object" || (typeof r.id !== "string" && typeof r.id !== "number"))
+        return fail("invalid-input", "Each row needs an id (text or number), failures and runs.");
+      const f = failureRate(r.failures, r.runs);
       if (!f.ok) return f;
       out.push({ id: String(r.id), ...f.value });
     }

@@ -5,6 +5,7 @@ export type Unit = "V" | "A" | "ohm" | "F";
 export type Quantity = { value: number | "OL"; unit: Unit };
 
 export const MAX_READING_TEXT = 64;
+const UNITS: readonly unknown[] = ["V", "A", "ohm", "F"];
 export const MAX_RANGE_TEXT = 120;
 
 export const unitForMode = (mode: Mode): Unit => (mode === "resistance" ? "ohm" : "V");
@@ -16,6 +17,8 @@ const UNIT_WORDS: Record<Unit, string> = {
   F: "a capacitance (e.g. 1n5, 10uF, 100nF)",
 };
 
+const UNIT_NAMES: Record<Unit, string> = { V: "volt", A: "amp", ohm: "ohm", F: "farad" };
+
 /** SI prefixes (BIPM SI Brochure); `K` is accepted for kilo as resistor markings use it. */
 const PREFIX_EXP: Record<string, number> = { p: -12, n: -9, u: -6, m: -3, k: 3, K: 3, M: 6, G: 9 };
 
@@ -23,7 +26,7 @@ const UNIT_TOKENS: Record<Unit, string[]> = {
   V: ["V", "v", "volt", "volts"],
   A: ["A", "amp", "amps"],
   ohm: ["Ω", "ohm", "ohms", "Ohm", "Ohms", "OHM", "R", "r"],
-  F: ["F"],
+  F: ["F", "farad", "farads"],
 };
 
 const NUMBER = String.raw`(\d+(?:\.\d*)?|\.\d+)(?:[eE]([+-]?\d{1,3}))?`;
@@ -53,6 +56,7 @@ function normalise(raw: string): string {
     .replace(/[\u00b5\u03bc]/g, "u")
     .replace(/[\u2126\u03a9]/g, "Ω")
     .replace(/[\u00a0\u2009\u202f]/g, " ")
+    .replace(/\u2212/g, "-")
     .trim();
 }
 
@@ -74,7 +78,7 @@ function toNumber(sign: string, mantissa: string, exp: number): number {
  * comma or dot decimals and the meter words OL/open. Never throws.
  */
 export const parseQuantity = guard((text: string, expectedUnit: Unit): Result<Quantity> => {
-  if (!["V", "A", "ohm", "F"].includes(expectedUnit as string))
+  if (!UNITS.includes(expectedUnit))
     return fail("invalid-input", "The expected unit must be one of V, A, ohm, F.");
   if (typeof text !== "string") return fail("invalid-input", "Expected the reading as text.");
   if (text.length > MAX_READING_TEXT)
@@ -88,6 +92,16 @@ export const parseQuantity = guard((text: string, expectedUnit: Unit): Result<Qu
   if (s.includes(",")) {
     if (s.includes(".") || s.split(",").length > 2)
       return fail("parse", `"${s}" mixes ',' and '.'; write one decimal mark, e.g. 3.3 or 3,3.`);
+    // "1,000" could be a thousands separator or a decimal comma: refuse rather than guess.
+    const grouped = /^[+-]?([1-9]\d{0,2}),(\d{3})(?!\d)/.exec(s);
+    if (grouped) {
+      const frac = grouped[2].replace(/0+$/, "") || "0";
+      const shown = s.slice(0, grouped.index + grouped[0].length);
+      return fail(
+        "parse",
+        `"${shown}" is ambiguous: write ${grouped[1]}${grouped[2]} or ${grouped[1]}.${frac}.`,
+      );
+    }
     s = s.replace(",", ".");
   }
   const expectedMsg = `expected ${UNIT_WORDS[expectedUnit]}, or OL/open`;
@@ -98,9 +112,16 @@ export const parseQuantity = guard((text: string, expectedUnit: Unit): Result<Qu
     value = toNumber(sign, mantissa, (e ? Number(e) : 0) + (prefix ? PREFIX_EXP[prefix] : 0));
   } else {
     const letters = Object.keys(CODE_LETTERS[expectedUnit]).join("");
-    const code = new RegExp(`^(\\d*)([${letters}])(\\d*)(${unitPattern(expectedUnit)})?$`).exec(s);
+    const code = new RegExp(`^(\\d*)([${letters}])(\\d*)\\s*(${unitPattern(expectedUnit)})?$`).exec(s);
     if (code && code[1].length + code[3].length > 0) {
-      const [, whole, letter, frac] = code;
+      const [, whole, letter, frac, unitWord] = code;
+      // In "4R7R" or "3V3V" the unit letter repeats a code letter: 4.7 Ω, or 4R7 followed by a stray R?
+      const letterExp = CODE_LETTERS[expectedUnit];
+      if (unitWord && letterExp[unitWord] === 0 && (letterExp[letter] === 0 || expectedUnit === "ohm"))
+        return fail(
+          "parse",
+          `"${s}" is ambiguous: the code ${whole}${letter}${frac} already carries its unit; write ${whole}${letter}${frac} alone, or spell the unit out (${whole}${letter}${frac} ${UNIT_NAMES[expectedUnit]}).`,
+        );
       value = toNumber("", `${whole || "0"}.${frac || "0"}`, CODE_LETTERS[expectedUnit][letter]);
     }
   }
@@ -120,6 +141,7 @@ export const parseQuantity = guard((text: string, expectedUnit: Unit): Result<Qu
  * A unit written once at the end applies to both ends.
  */
 export const parseRange = guard((text: string, unit: Unit): Result<Range> => {
+  if (!UNITS.includes(unit)) return fail("invalid-input", "The unit must be one of V, A, ohm, F.");
   if (typeof text !== "string") return fail("invalid-input", "Expected the range as text.");
   if (text.length > MAX_RANGE_TEXT)
     return fail("invalid-input", `A range is at most ${MAX_RANGE_TEXT} characters.`);

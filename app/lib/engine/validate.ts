@@ -1,3 +1,10 @@
+import {
+  DEFAULT_MISSING_FRACTION,
+  DEFAULT_MISSING_V,
+  DEFAULT_SHORTED_OHM,
+  DIODE_SHORTED_V,
+  windowOf,
+} from "./judge";
 import { isNet, type MapDocument, type MapNode, parseMapDocument } from "./map-document";
 import { guard, ok, type Result } from "./result";
 import { buildGraph, findCyclePath, levelsOf, STAGE_RANK } from "./sequence";
@@ -18,7 +25,9 @@ export type IssueCode =
   | "stage-order"
   | "unreachable"
   | "source-no-output"
-  | "nominal-outside-expected";
+  | "nominal-outside-expected"
+  | "duplicate-edge"
+  | "window-below-threshold";
 
 export type ValidationIssue = {
   code: IssueCode;
@@ -66,6 +75,7 @@ export const validateMap = guard((input: unknown): Result<ValidationReport> => {
     else byId.set(n.id, n);
   }
   const edgeIds = new Set<string>();
+  const links = new Map<string, string>();
   for (const e of doc.edges) {
     if (edgeIds.has(e.id))
       add({
@@ -89,6 +99,19 @@ export const validateMap = guard((input: unknown): Result<ValidationReport> => {
       });
       continue;
     }
+    const link = `${e.from}\u0000${e.to}`;
+    const first = links.get(link);
+    if (first !== undefined) {
+      add({
+        code: "duplicate-edge",
+        severity: "warning",
+        nodeIds: [a.id, b.id],
+        edgeIds: [first, e.id],
+        message: `Edge ${e.id} repeats edge ${first} from ${label(a)} to ${label(b)}; the repeat is ignored.`,
+      });
+      continue;
+    }
+    links.set(link, e.id);
     const okKind =
       (e.kind === "supplies" && a.kind === "source" && isNet(b)) ||
       (e.kind === "feeds" && isNet(a) && b.kind === "part") ||
@@ -162,6 +185,38 @@ export const validateMap = guard((input: unknown): Result<ValidationReport> => {
             severity: "warning",
             nodeIds: [n.id],
             message: `${label(n)}: its nominal ${nominal} V is outside its expected voltage window.`,
+          });
+        const missingV =
+          n.missingThresholdV ??
+          doc.settings.missingThresholdV ??
+          Math.max(DEFAULT_MISSING_V, DEFAULT_MISSING_FRACTION * Math.abs(nominal));
+        if (Math.min(lo, hi) < missingV)
+          add({
+            code: "window-below-threshold",
+            severity: "warning",
+            nodeIds: [n.id],
+            message: `${label(n)}: its expected voltage window starts at ${Math.min(lo, hi)} V, below the missing threshold of ${missingV} V, so a healthy reading could look missing (readings inside the window count as in range).`,
+          });
+      }
+      const shortedOhm = n.shortedThresholdOhm ?? doc.settings.shortedThresholdOhm ?? DEFAULT_SHORTED_OHM;
+      if (n.expected.resistance) {
+        const w = windowOf(n.expected.resistance);
+        if (w.min < shortedOhm)
+          add({
+            code: "window-below-threshold",
+            severity: "warning",
+            nodeIds: [n.id],
+            message: `${label(n)}: its expected resistance window starts at ${w.min} Ω, below the shorted threshold of ${shortedOhm} Ω, so a healthy reading could look shorted (readings inside the window count as in range).`,
+          });
+      }
+      if (n.expected.diode) {
+        const w = windowOf(n.expected.diode);
+        if (w.min < DIODE_SHORTED_V)
+          add({
+            code: "window-below-threshold",
+            severity: "warning",
+            nodeIds: [n.id],
+            message: `${label(n)}: its expected diode-mode window starts at ${w.min} V, below the ${DIODE_SHORTED_V} V that reads as a dead short, so a healthy reading could look shorted.`,
           });
       }
     } else if (n.kind === "part") {
