@@ -3,6 +3,8 @@ import type { Db } from "../app/server/db.server";
 import { hashPassword } from "../app/server/password.server";
 import { boards, maps, mapVersions, members, shops, users } from "../app/server/schema.server";
 import { DEMO_BOARDS, DEMO_MEMBERS, DEMO_PASSWORD, DEMO_SHOP } from "./demo-data";
+import { seedDemoHistory } from "./demo-history.server";
+import { seedDemoJobs } from "./demo-jobs.server";
 
 /**
  * The invented demo shop. Fixed ids make it idempotent: a second run inserts nothing and changes nothing.
@@ -61,5 +63,8 @@ export async function seedDemo(db: Db) {
         .onConflictDoNothing(),
     ),
   ]);
+  // Open jobs at the desk, then a few hundred past runs with findings so insights have something to show.
+  await seedDemoJobs(db);
+  await seedDemoHistory(db);
   return { created: true };
 }

@@ -2,18 +2,23 @@ import { Form, NavLink, Outlet, useFetcher, useNavigation } from "react-router";
 import { LogoMark } from "~/components/logo";
 import { can, type Permission, ROLE_LABELS } from "~/lib/permissions";
 import { listMemberships, requireMember } from "~/server/auth.server";
+import { countUnreadNotices } from "~/server/runs.server";
 import { readTheme } from "~/server/theme.server";
 import type { Route } from "./+types/app-layout";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, shop, role } = await requireMember(request);
-  const memberships = await listMemberships(user.id);
+  const [memberships, unreadNotices] = await Promise.all([
+    listMemberships(user.id),
+    countUnreadNotices(shop.id, user.id),
+  ]);
   return {
     user: { id: user.id, name: user.name, email: user.email },
     shop: { id: shop.id, name: shop.name },
     role,
     memberships: memberships.map((m) => ({ shopId: m.shopId, shopName: m.shopName, role: m.role })),
     theme: readTheme(request),
+    unreadNotices,
   };
 }
 
@@ -23,10 +28,11 @@ const NAV: Array<{ to: string; label: string; permission: Permission }> = [
   { to: "/jobs", label: "Jobs", permission: "view:jobs" },
   { to: "/insights", label: "Insights", permission: "view:insights" },
   { to: "/settings", label: "Shop settings", permission: "manage:shop" },
+  { to: "/settings/tokens", label: "API tokens", permission: "manage:own-tokens" },
 ];
 
 export default function AppLayoutRoute({ loaderData }: Route.ComponentProps) {
-  const { user, shop, role, memberships, theme } = loaderData;
+  const { user, shop, role, memberships, theme, unreadNotices } = loaderData;
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
   return (
@@ -51,6 +57,15 @@ export default function AppLayoutRoute({ loaderData }: Route.ComponentProps) {
                 }
               >
                 {n.label}
+                {n.to === "/runs" && unreadNotices ? (
+                  <span
+                    className="ml-1.5 rounded-full bg-accent px-1.5 text-xs text-on-accent"
+                    data-testid="notice-badge"
+                  >
+                    {unreadNotices}
+                    <span className="sr-only"> new notices</span>
+                  </span>
+                ) : null}
               </NavLink>
             ))}
           </nav>

@@ -1,0 +1,365 @@
+import { and, asc, desc, eq, inArray, ne, sql } from "drizzle-orm";
+import {
+  type Actor,
+  type Billing,
+  checkTransition,
+  type JobState,
+  nextTransitions,
+  type Transition,
+} from "~/lib/job-states";
+import { audit } from "./audit.server";
+import { db } from "./db.server";
+import { newId } from "./ids.server";
+import { sealPasscode } from "./passcode.server";
+// Starts the daily retention task in a running server (see tasks.server.ts).
+import "./tasks.server";
+import {
+  auditEvents,
+  boards,
+  customers,
+  findings,
+  invoices,
+  jobEvents,
+  jobs,
+  mapVersions,
+  members,
+  runs,
+  type shops,
+  users,
+} from "./schema.server";
+
+export type Shop = typeof shops.$inferSelect;
+export type Job = typeof jobs.$inferSelect;
+
+/** The job if it belongs to the shop; otherwise undefined (callers answer 404). */
+export function getJob(shopId: string, jobId: string) {
+  return db
+    .select()
+    .from(jobs)
+    .where(and(eq(jobs.shopId, shopId), eq(jobs.id, jobId)))
+    .get();
+}
+
+// The next number inside the INSERT itself, so two desks taking in devices at once cannot draw the same one;
+// the unique index (shop_id, number) is the backstop.
+const nextJobNumber = (shopId: string) =>
+  sql<number>`(select coalesce(max(${jobs.number}), 0) + 1 from ${jobs} where ${jobs.shopId} = ${shopId})`;
+
+export type IntakeInput = {
+  customer: { id?: string; name: string; email?: string; phone?: string; consentToContact: boolean };
+  boardId: string | null;
+  serial: string;
+  conditionNotes: string;
+  accessories: string;
+  complaint: string;
+  diagnosticFeeMinor: number;
+  unclaimedDays: number;
+  passcode?: string;
+  warrantyOfJobId?: string | null;
+  chargeable?: boolean;
+};
+
+export async function createJob(shopId: string, actorId: string, input: IntakeInput) {
+  const jobId = newId();
+  const customerId = input.customer.id ?? newId();
+  const now = new Date();
+  const statements = [];
+  if (!input.customer.id) {
+    statements.push(
+      db.insert(customers).values({
+        id: customerId,
+        shopId,
+        name: input.customer.name,
+        email: input.customer.email || null,
+        phone: input.customer.phone || null,
+        consentToContact: input.customer.consentToContact,
+      }),
+    );
+  }
+  statements.push(
+    db.insert(jobs).values({
+      id: jobId,
+      shopId,
+      number: nextJobNumber(shopId),
+      customerId,
+      boardId: input.boardId,
+      serial: input.serial,
+      complaint: input.complaint,
+      conditionNotes: input.conditionNotes,
+      accessories: input.accessories,
+      diagnosticFeeMinor: input.diagnosticFeeMinor,
+      termsAcceptedAt: now,
+      unclaimedDays: input.unclaimedDays,
+      passcodeSealed: input.passcode ? sealPasscode(input.passcode, jobId) : null,
+      warrantyOfJobId: input.warrantyOfJobId ?? null,
+      chargeable: input.chargeable ?? true,
+      stateChangedAt: now,
+      createdBy: actorId,
+    }),
+    db.insert(jobEvents).values({
+      shopId,
+      jobId,
+      fromState: null,
+      toState: "received",
+      actorKind: "member",
+      actorId,
+      note: input.warrantyOfJobId ? "Warranty comeback" : "Taken in",
+    }),
+  );
+  await db.batch(statements as unknown as Parameters<typeof db.batch>[0]);
+  const job = (await getJob(shopId, jobId))!;
+  await audit({ shopId, actorId, action: "job.created", subject: jobId, data: { number: job.number } });
+  return job;
+}
+
+/** How closing sees the job's money: the latest invoice that is not void, or nothing owed. */
+export async function billingOf(job: Job): Promise<Billing> {
+  const invoice = await db
+    .select()
+    .from(invoices)
+    .where(and(eq(invoices.shopId, job.shopId), eq(invoices.jobId, job.id), ne(invoices.status, "void")))
+    .orderBy(desc(invoices.createdAt))
+    .get();
+  if (!invoice) return !job.chargeable || job.diagnosticFeeMinor === 0 ? "nothing-owed" : "unpaid";
+  if (invoice.totalMinor === 0) return "nothing-owed";
+  return invoice.status === "paid" ? "paid" : "unpaid";
+}
+
+export type TransitionResult = { ok: true; job: Job } | { ok: false; status: number; message: string };
+
+/**
+ * Moves a job along the table in app/lib/job-states.ts. The UPDATE repeats the expected current state, so
+ * two people pressing buttons at once cannot both move it; each move is a job event and an audit entry.
+ */
+export async function transitionJob(
+  job: Job,
+  to: JobState,
+  actor: { kind: "member"; id: string; role: Actor } | { kind: "customer" } | { kind: "system"; role: Actor },
+  note?: string,
+): Promise<TransitionResult> {
+  const role: Actor = actor.kind === "customer" ? "customer" : actor.role;
+  const check = checkTransition(job.state, to, role, {
+    billing: await billingOf(job),
+    waived: !!job.waivedAt,
+    warranty: !job.chargeable,
+  });
+  if (!check.ok) return { ok: false, status: check.reason === "role" ? 403 : 409, message: check.message };
+  const now = new Date();
+  const updated = await db
+    .update(jobs)
+    .set({
+      state: to,
+      stateChangedAt: now,
+      ...(to === "closed" ? { closedAt: now, passcodeSealed: null } : {}),
+    })
+    .where(and(eq(jobs.shopId, job.shopId), eq(jobs.id, job.id), eq(jobs.state, job.state)))
+    .returning()
+    .get();
+  if (!updated)
+    return { ok: false, status: 409, message: "Someone else moved this job just now. Reload to see it." };
+  const actorId = actor.kind === "member" ? actor.id : null;
+  await db.batch([
+    db.insert(jobEvents).values({
+      shopId: job.shopId,
+      jobId: job.id,
+      fromState: job.state,
+      toState: to,
+      actorKind: actor.kind,
+      actorId,
+      note: note ?? null,
+    }),
+    db.insert(auditEvents).values({
+      shopId: job.shopId,
+      actorId,
+      action: "job.state-changed",
+      subject: job.id,
+      data: {
+        from: job.state,
+        to,
+        by: actor.kind,
+        ...(to === "closed" ? { passcodeErased: !!job.passcodeSealed } : {}),
+      },
+    }),
+  ]);
+  return { ok: true, job: updated };
+}
+
+export function allowedMoves(job: Job, role: Actor): Transition[] {
+  return nextTransitions(job.state, role).filter((t) => t.guard !== "pre-approved" || !job.chargeable);
+}
+
+export type JobListRow = {
+  id: string;
+  number: number;
+  state: JobState;
+  customerName: string | null;
+  board: string | null;
+  serial: string;
+  complaint: string;
+  assignedName: string | null;
+  createdAt: number;
+  stateChangedAt: number | null;
+  warranty: boolean;
+};
+
+export async function listJobs(shopId: string): Promise<JobListRow[]> {
+  const rows = await db
+    .select({
+      id: jobs.id,
+      number: jobs.number,
+      state: jobs.state,
+      customerName: customers.name,
+      boardMaker: boards.maker,
+      boardModel: boards.model,
+      boardNumber: boards.boardNumber,
+      serial: jobs.serial,
+      complaint: jobs.complaint,
+      assignedName: users.name,
+      createdAt: jobs.createdAt,
+      stateChangedAt: jobs.stateChangedAt,
+      warrantyOf: jobs.warrantyOfJobId,
+    })
+    .from(jobs)
+    .leftJoin(customers, and(eq(customers.id, jobs.customerId), eq(customers.shopId, shopId)))
+    .leftJoin(boards, and(eq(boards.id, jobs.boardId), eq(boards.shopId, shopId)))
+    .leftJoin(users, eq(users.id, jobs.assignedTo))
+    .where(eq(jobs.shopId, shopId))
+    .orderBy(desc(jobs.number))
+    .all();
+  return rows.map((r) => ({
+    id: r.id,
+    number: r.number,
+    state: r.state,
+    customerName: r.customerName,
+    board: r.boardMaker ? `${r.boardMaker} ${r.boardModel} (${r.boardNumber})` : null,
+    serial: r.serial,
+    complaint: r.complaint,
+    assignedName: r.assignedName,
+    createdAt: r.createdAt.getTime(),
+    stateChangedAt: r.stateChangedAt?.getTime() ?? null,
+    warranty: !!r.warrantyOf,
+  }));
+}
+
+export function listEvents(shopId: string, jobId: string) {
+  return db
+    .select({
+      id: jobEvents.id,
+      fromState: jobEvents.fromState,
+      toState: jobEvents.toState,
+      actorKind: jobEvents.actorKind,
+      actorName: users.name,
+      note: jobEvents.note,
+      at: jobEvents.at,
+    })
+    .from(jobEvents)
+    .leftJoin(users, eq(users.id, jobEvents.actorId))
+    .where(and(eq(jobEvents.shopId, shopId), eq(jobEvents.jobId, jobId)))
+    .orderBy(asc(jobEvents.id))
+    .all();
+}
+
+/** The job's runs with their findings, the parts they used and the bench time they took. */
+export async function runsOfJob(shopId: string, jobId: string) {
+  const jobRuns = await db
+    .select({
+      id: runs.id,
+      status: runs.status,
+      outcome: runs.outcome,
+      startedAt: runs.startedAt,
+      isolatedAt: runs.isolatedAt,
+      closedAt: runs.closedAt,
+      techName: users.name,
+    })
+    .from(runs)
+    .leftJoin(users, eq(users.id, runs.techId))
+    .where(and(eq(runs.shopId, shopId), eq(runs.jobId, jobId)))
+    .orderBy(asc(runs.startedAt))
+    .all();
+  const runFindings = jobRuns.length
+    ? await db
+        .select()
+        .from(findings)
+        .where(
+          and(
+            eq(findings.shopId, shopId),
+            inArray(
+              findings.runId,
+              jobRuns.map((r) => r.id),
+            ),
+          ),
+        )
+        .orderBy(asc(findings.createdAt))
+        .all()
+    : [];
+  const now = Date.now();
+  // Bench time counts a run until it closed, or until its fault was isolated; an open run counts up to now.
+  const minutes = jobRuns.reduce((sum, r) => {
+    const end = (r.closedAt ?? r.isolatedAt)?.getTime() ?? now;
+    return sum + Math.max(0, end - r.startedAt.getTime()) / 60_000;
+  }, 0);
+  const parts = runFindings.flatMap((f) => f.partsUsed ?? []);
+  const described = await describeFindings(shopId, runFindings);
+  return { runs: jobRuns, findings: described, parts, minutes: Math.round(minutes) };
+}
+
+type FindingRow = typeof findings.$inferSelect;
+type DocNode = {
+  id?: string;
+  name?: string;
+  refdes?: string;
+  fixes?: Array<{ id?: string; label?: string }>;
+};
+
+/**
+ * Names a finding's node and fix the way the map the run pinned names them ("R362 (3.3 V standby enable
+ * resistor)", "Replace R362"), read from that published version's document.
+ */
+export async function describeFindings(shopId: string, rows: FindingRow[]) {
+  const docs = new Map<string, DocNode[]>();
+  for (const versionId of new Set(rows.map((f) => f.mapVersionId))) {
+    const version = await db
+      .select({ document: mapVersions.document })
+      .from(mapVersions)
+      .where(and(eq(mapVersions.shopId, shopId), eq(mapVersions.id, versionId)))
+      .get();
+    const nodes = (version?.document as { nodes?: unknown } | undefined)?.nodes;
+    docs.set(versionId, Array.isArray(nodes) ? (nodes as DocNode[]) : []);
+  }
+  return rows.map((f) => {
+    const node = docs.get(f.mapVersionId)?.find((n) => n.id === f.nodeId);
+    const nodeLabel = node
+      ? node.refdes
+        ? `${node.refdes} (${node.name ?? ""})`
+        : (node.name ?? f.nodeId)
+      : f.nodeId;
+    const fixLabel = f.fixKind ? (node?.fixes?.find((x) => x.id === f.fixKind)?.label ?? f.fixKind) : null;
+    return { ...f, nodeLabel, fixLabel };
+  });
+}
+
+export function listTechs(shopId: string) {
+  return db
+    .select({ userId: users.id, name: users.name, role: members.role })
+    .from(members)
+    .innerJoin(users, eq(users.id, members.userId))
+    .where(and(eq(members.shopId, shopId), inArray(members.role, ["tech", "lead", "owner"])))
+    .orderBy(asc(users.name))
+    .all();
+}
+
+export function getCustomer(shopId: string, customerId: string | null) {
+  if (!customerId) return undefined;
+  return db
+    .select()
+    .from(customers)
+    .where(and(eq(customers.shopId, shopId), eq(customers.id, customerId)))
+    .get();
+}
+
+/** A warranty comeback is free when the original job closed no more than the shop's warranty days ago. */
+export function warrantyCovers(original: Job, shop: Pick<Shop, "warrantyDays">, now = new Date()): boolean {
+  if (original.state !== "closed" || !original.closedAt) return false;
+  const days = (now.getTime() - original.closedAt.getTime()) / 86_400_000;
+  return days <= shop.warrantyDays;
+}

@@ -1,0 +1,134 @@
+import { eq } from "drizzle-orm";
+import { describe, expect, it, vi } from "vitest";
+
+vi.hoisted(() => {
+  // Keep this file's uploads out of the repository's data folder.
+  const { mkdtempSync: mk } = require("node:fs") as typeof import("node:fs");
+  const { tmpdir: t } = require("node:os") as typeof import("node:os");
+  const { join } = require("node:path") as typeof import("node:path");
+  process.env.UPLOADS_DIR = mk(join(t(), "railwise-uploads-"));
+});
+
+import * as photos from "~/routes/map-photos";
+import * as uploadFile from "~/routes/upload-file";
+import { db } from "~/server/db.server";
+import { uploads } from "~/server/schema.server";
+import { createShopWithRoles } from "../support/fixtures";
+import { newMap } from "../support/maps";
+import { call, getRequest } from "../support/requests";
+
+// A 1×1 PNG: the 8-byte signature 89 50 4E 47 0D 0A 1A 0A (PNG specification, W3C/ISO 15948 §5.2) then IHDR.
+const PNG_1PX = Buffer.from(
+  "iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR42mNk+M9QDwADhgGAWjR9awAAAABJRU5ErkJggg==",
+  "base64",
+);
+
+function uploadRequest(mapId: string, cookie: string, bytes: Uint8Array, name: string, type: string) {
+  const form = new FormData();
+  form.append("photo", new File([bytes as BlobPart], name, { type }));
+  return new Request(`http://railwise.test/maps/${mapId}/photos`, {
+    method: "POST",
+    body: form,
+    headers: { Cookie: cookie },
+  });
+}
+
+async function setup() {
+  const shop = await createShopWithRoles();
+  const mapId = await newMap(shop.shopId, shop.boardId, shop.userIds.lead);
+  return { shop, mapId };
+}
+
+describe("probe-point photos", () => {
+  it("refuses a text file named .png (the bytes decide) and stores nothing", async () => {
+    const { shop, mapId } = await setup();
+    const r = await call(photos.action, {
+      request: uploadRequest(
+        mapId,
+        shop.cookies.lead,
+        Buffer.from("hello, I am text"),
+        "board.png",
+        "image/png",
+      ),
+      params: { mapId },
+    });
+    expect(r.status).toBe(415);
+    expect((r.data as { message: string }).message).toMatch(/JPEG, PNG or WebP/);
+    expect(await db.select().from(uploads).where(eq(uploads.shopId, shop.shopId)).all()).toEqual([]);
+  });
+
+  it("refuses SVG even though it is an image", async () => {
+    const { shop, mapId } = await setup();
+    const svg = Buffer.from(
+      '<?xml version="1.0"?><svg xmlns="http://www.w3.org/2000/svg"><script>alert(1)</script></svg>',
+    );
+    const r = await call(photos.action, {
+      request: uploadRequest(mapId, shop.cookies.lead, svg, "board.png", "image/png"),
+      params: { mapId },
+    });
+    expect(r.status).toBe(415);
+    expect(await db.select().from(uploads).where(eq(uploads.shopId, shop.shopId)).all()).toEqual([]);
+  });
+
+  it("refuses a photo over the size limit with 413", async () => {
+    const { shop, mapId } = await setup();
+    const big = new Uint8Array(photos.MAX_PHOTO_BYTES + 10);
+    big.set(PNG_1PX);
+    const r = await call(photos.action, {
+      request: uploadRequest(mapId, shop.cookies.lead, big, "big.png", "image/png"),
+      params: { mapId },
+    });
+    expect(r.status).toBe(413);
+    expect(await db.select().from(uploads).where(eq(uploads.shopId, shop.shopId)).all()).toEqual([]);
+  });
+
+  it("stores a real PNG named .txt with its sniffed type and sha256, and serves it only to its shop", async () => {
+    const { shop, mapId } = await setup();
+    const r = await call(photos.action, {
+      request: uploadRequest(mapId, shop.cookies.lead, PNG_1PX, "notes.txt", "text/plain"),
+      params: { mapId },
+    });
+    expect(r.status).toBe(200);
+    const { uploadId } = r.data as { uploadId: string };
+    const row = await db.select().from(uploads).where(eq(uploads.id, uploadId)).get();
+    expect(row).toMatchObject({ contentType: "image/png", bytes: PNG_1PX.length, shopId: shop.shopId });
+    const { createHash } = await import("node:crypto");
+    expect(row!.sha256).toBe(createHash("sha256").update(PNG_1PX).digest("hex"));
+
+    const served = await call(uploadFile.loader, {
+      request: getRequest(`/uploads/${uploadId}`, shop.cookies.desk),
+      params: { uploadId },
+    });
+    expect(served.status).toBe(200);
+    expect(served.response!.headers.get("Content-Type")).toBe("image/png");
+    expect(served.response!.headers.get("X-Content-Type-Options")).toBe("nosniff");
+    expect(Buffer.from(await served.response!.arrayBuffer()).equals(PNG_1PX)).toBe(true);
+
+    const other = await createShopWithRoles("Other shop");
+    const refused = await call(uploadFile.loader, {
+      request: getRequest(`/uploads/${uploadId}`, other.cookies.owner),
+      params: { uploadId },
+    });
+    expect(refused.status).toBe(404);
+    const signedOut = await call(uploadFile.loader, {
+      request: getRequest(`/uploads/${uploadId}`),
+      params: { uploadId },
+    });
+    expect(signedOut.status).toBe(302);
+  });
+
+  it("refuses uploads from the desk (403) and to another shop's map (404)", async () => {
+    const { shop, mapId } = await setup();
+    const desk = await call(photos.action, {
+      request: uploadRequest(mapId, shop.cookies.desk, PNG_1PX, "a.png", "image/png"),
+      params: { mapId },
+    });
+    expect(desk.status).toBe(403);
+    const other = await createShopWithRoles("Other shop");
+    const foreign = await call(photos.action, {
+      request: uploadRequest(mapId, other.cookies.lead, PNG_1PX, "a.png", "image/png"),
+      params: { mapId },
+    });
+    expect(foreign.status).toBe(404);
+  });
+});
