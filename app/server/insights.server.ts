@@ -13,19 +13,84 @@ import { boards, maps, mapVersions, members, users } from "./schema.server";
 
 const DAY_MS = 86_400_000;
 
+type CondOpts = {
+  endedOnly?: boolean;
+  /**
+   * Keeps the planner off the date and filter columns ("+col" is not indexable) so it walks the index that
+   * matches the query's GROUP BY / ORDER BY instead of range-scanning by date and sorting afterwards. Those
+   * indexes carry the filter columns, so the filters are still checked on index entries only.
+   */
+  inOrder?: boolean;
+  /** The shop too: the rows come through another table's key (a job's runs), not a shop index. */
+  throughKey?: boolean;
+  /** With inOrder: the board stays indexable (the index starts with shop and board). */
+  byBoard?: boolean;
+};
+
 /** Conditions on `runs r` shared by every query: always the shop, then the filters. */
-function runConditions(shopId: string, f: InsightsFilter, opts: { endedOnly?: boolean } = {}): SQL {
+function runConditions(shopId: string, f: InsightsFilter, opts: CondOpts = {}): SQL {
+  const c = (col: string) => sql.raw(`${opts.inOrder ? "+" : ""}r.${col}`);
   const parts: SQL[] = [
-    sql`r.shop_id = ${shopId}`,
-    sql`r.created_at >= ${f.fromMs}`,
-    sql`r.created_at < ${f.toMs}`,
+    opts.throughKey ? sql`+r.shop_id = ${shopId}` : sql`r.shop_id = ${shopId}`,
+    sql`${c("created_at")} >= ${f.fromMs}`,
+    sql`${c("created_at")} < ${f.toMs}`,
   ];
-  if (f.boardId) parts.push(sql`r.board_id = ${f.boardId}`);
-  if (f.versionId) parts.push(sql`r.map_version_id = ${f.versionId}`);
-  if (f.techId) parts.push(sql`r.tech_id = ${f.techId}`);
-  if (f.outcome) parts.push(sql`r.outcome = ${f.outcome}`);
-  if (opts.endedOnly) parts.push(sql`r.status <> 'open'`);
+  if (f.boardId)
+    parts.push(opts.byBoard ? sql`r.board_id = ${f.boardId}` : sql`${c("board_id")} = ${f.boardId}`);
+  if (f.versionId) parts.push(sql`${c("map_version_id")} = ${f.versionId}`);
+  if (f.techId) parts.push(sql`${c("tech_id")} = ${f.techId}`);
+  if (f.outcome) parts.push(sql`${c("outcome")} = ${f.outcome}`);
+  if (opts.endedOnly) parts.push(sql`${c("status")} <> 'open'`);
   return sql.join(parts, sql` AND `);
+}
+
+/**
+ * The same conditions on `findings fd`, through the run's columns copied onto each finding (run_*, kept by
+ * the rollup triggers in schema.server.ts in the same transaction as the finding and every change to its run).
+ */
+function findingConditions(shopId: string, f: InsightsFilter, opts: CondOpts = {}): SQL {
+  const c = (col: string) => sql.raw(`${opts.inOrder ? "+" : ""}fd.${col}`);
+  const parts: SQL[] = [
+    sql`fd.shop_id = ${shopId}`,
+    sql`${c("run_started_at")} >= ${f.fromMs}`,
+    sql`${c("run_started_at")} < ${f.toMs}`,
+  ];
+  if (f.boardId)
+    parts.push(opts.byBoard ? sql`fd.run_board_id = ${f.boardId}` : sql`${c("run_board_id")} = ${f.boardId}`);
+  if (f.versionId) parts.push(sql`${c("run_version_id")} = ${f.versionId}`);
+  if (f.techId) parts.push(sql`${c("run_tech_id")} = ${f.techId}`);
+  if (f.outcome) parts.push(sql`${c("run_outcome")} = ${f.outcome}`);
+  if (opts.endedOnly) parts.push(sql`${c("run_status")} <> 'open'`);
+  return sql.join(parts, sql` AND `);
+}
+
+// The runs page asks for several statistics in one Promise.all with the same filter, and some need the same
+// rows (repeat jobs for repeats and first-time fix; the per-strategy run counts for strategies and the
+// escalation rate). Concurrent identical requests share one query, dropped once it settles, so nothing is
+// ever served from an earlier moment.
+const inFlight = new WeakMap<Db, Map<string, Promise<unknown>>>();
+
+function shared<T>(
+  db: Db,
+  what: string,
+  shopId: string,
+  f: InsightsFilter,
+  run: () => Promise<T>,
+): Promise<T> {
+  const key = JSON.stringify([what, shopId, f.fromMs, f.toMs, f.boardId, f.versionId, f.techId, f.outcome]);
+  let byKey = inFlight.get(db);
+  if (!byKey) {
+    byKey = new Map();
+    inFlight.set(db, byKey);
+  }
+  const hit = byKey.get(key);
+  if (hit) return hit as Promise<T>;
+  // (Drizzle's query is a lazy thenable that runs again on every then(): start it once, share the promise.)
+  const p = (async () => run())();
+  const map = byKey;
+  map.set(key, p);
+  p.finally(() => map.delete(key)).catch(() => {});
+  return p;
 }
 
 function wilson(k: number, n: number): FailureRate {
@@ -53,7 +118,6 @@ export type HotSpot = {
  * the node (map_version_nodes), with the 95 % Wilson interval, ranked by its lower bound.
  */
 export async function getHotSpots(db: Db, shopId: string, f: InsightsFilter): Promise<HotSpot[]> {
-  const w = runConditions(shopId, f, { endedOnly: true });
   const rows = await db.all<{
     board_id: string;
     node_id: string;
@@ -66,7 +130,7 @@ export async function getHotSpots(db: Db, shopId: string, f: InsightsFilter): Pr
   }>(sql`
     WITH rv AS (
       SELECT r.board_id, r.map_version_id, COUNT(*) AS runs
-      FROM runs r WHERE ${w}
+      FROM runs r WHERE ${runConditions(shopId, f, { endedOnly: true, inOrder: true, byBoard: true })}
       GROUP BY r.board_id, r.map_version_id
     ),
     denom AS (
@@ -77,12 +141,13 @@ export async function getHotSpots(db: Db, shopId: string, f: InsightsFilter): Pr
       GROUP BY rv.board_id, n.node_id
     ),
     fails AS (
-      SELECT r.board_id, f.node_id, COUNT(DISTINCT f.run_id) AS failures
-      FROM runs r JOIN findings f ON f.run_id = r.id
-      WHERE ${w} AND f.node_id IS NOT NULL AND f.kind IN ('part', 'short')
-      -- "+" keeps the planner on the covering date index instead of the board index (it would pick that one
-      -- for the grouping order and then read every run row from the table).
-      GROUP BY +r.board_id, f.node_id
+      -- findings_hot: in (board, node) order, so no join per run and no sort.
+      -- Runs, not findings: node_first (kept by trigger) marks a run's first finding on the node.
+      SELECT fd.run_board_id AS board_id, fd.node_id, COUNT(*) AS failures
+      FROM findings fd
+      WHERE ${findingConditions(shopId, f, { endedOnly: true, inOrder: true, byBoard: true })}
+        AND fd.node_id IS NOT NULL AND fd.kind IN ('part', 'short') AND fd.node_first = 1
+      GROUP BY fd.run_board_id, fd.node_id
     )
     SELECT d.board_id, d.node_id, d.node_name, d.kind, d.refdes, d.runs,
            COALESCE(fl.failures, 0) AS failures,
@@ -134,61 +199,92 @@ export type StrategyStats = {
  * for all strategies together ("all"). Readings count what was probed: skipped readings and corrections
  * (a reading that replaces an earlier one) are left out.
  */
+type StrategyRow = {
+  strategy: string;
+  runs: number;
+  isolated: number;
+  escalated: number;
+  median_readings: number | null;
+  mean_readings: number | null;
+};
+
+/**
+ * Per strategy and reading count (runs.reading_count, a rollup kept by trigger with every reading), one walk
+ * of runs_strategy_readings in index order: runs, isolated and escalated runs, and the readings median and
+ * mean from that small histogram (nearest rank: the first count whose cumulative share reaches the rank).
+ */
+function strategySummary(db: Db, shopId: string, f: InsightsFilter): Promise<StrategyRow[]> {
+  return shared(db, "strategies", shopId, f, () =>
+    db.all<StrategyRow>(sql`
+      WITH h AS (
+        SELECT r.strategy, r.reading_count AS rc, COUNT(*) AS runs, COUNT(r.isolated_at) AS isolated,
+               COUNT(r.escalated_at) AS escalated
+        FROM runs r WHERE ${runConditions(shopId, f, { inOrder: true })}
+        GROUP BY r.strategy, r.reading_count
+      ),
+      h2 AS (
+        SELECT strategy, rc, runs, isolated, escalated FROM h
+        UNION ALL SELECT 'all', rc, SUM(runs), SUM(isolated), SUM(escalated) FROM h GROUP BY rc
+        UNION ALL SELECT 'all', NULL, 0, 0, 0
+      ),
+      c AS (
+        SELECT strategy, rc, runs, isolated, escalated,
+               SUM(isolated) OVER (PARTITION BY strategy ORDER BY rc ROWS UNBOUNDED PRECEDING) AS cum,
+               SUM(isolated) OVER (PARTITION BY strategy) AS n
+        FROM h2
+      )
+      SELECT strategy, SUM(runs) AS runs, MAX(n) AS isolated, SUM(escalated) AS escalated,
+             MIN(CASE WHEN isolated > 0 AND cum >= (n * 50 + 99) / 100 THEN rc END) AS median_readings,
+             SUM(rc * isolated) * 1.0 / NULLIF(MAX(n), 0) AS mean_readings
+      FROM c GROUP BY strategy
+      ORDER BY CASE strategy WHEN 'order' THEN 1 WHEN 'split' THEN 2 WHEN 'best' THEN 3 ELSE 4 END
+    `),
+  );
+}
+
 export async function getStrategyStats(db: Db, shopId: string, f: InsightsFilter): Promise<StrategyStats[]> {
-  const w = runConditions(shopId, f);
-  const rows = await db.all<{
-    strategy: string;
-    runs: number;
-    isolated: number;
-    median_ms: number | null;
-    p90_ms: number | null;
-    median_readings: number | null;
-    mean_readings: number | null;
-  }>(sql`
-    WITH base AS (
-      SELECT r.id, r.strategy, r.isolated_at - r.created_at AS ms
-      FROM runs r WHERE ${w}
-    ),
-    iso AS MATERIALIZED (
-      SELECT b.strategy, b.ms,
-             (SELECT COUNT(*) FROM readings x
-               WHERE x.run_id = b.id AND x.skipped = 0 AND x.replaces_id IS NULL) AS readings
-      FROM base b WHERE b.ms IS NOT NULL
-    ),
-    both_ AS (SELECT strategy, ms, readings FROM iso UNION ALL SELECT 'all', ms, readings FROM iso),
-    ranked AS (
-      SELECT strategy, ms, readings,
-             ROW_NUMBER() OVER (PARTITION BY strategy ORDER BY ms) AS rn_ms,
-             ROW_NUMBER() OVER (PARTITION BY strategy ORDER BY readings) AS rn_rd,
-             COUNT(*) OVER (PARTITION BY strategy) AS cnt
-      FROM both_
-    ),
-    stats AS (
-      SELECT strategy, MAX(cnt) AS isolated,
-             MIN(CASE WHEN rn_ms = (cnt * 50 + 99) / 100 THEN ms END) AS median_ms,
-             MIN(CASE WHEN rn_ms = (cnt * 90 + 99) / 100 THEN ms END) AS p90_ms,
-             MIN(CASE WHEN rn_rd = (cnt * 50 + 99) / 100 THEN readings END) AS median_readings,
-             AVG(readings) AS mean_readings
-      FROM ranked GROUP BY strategy
-    ),
-    totals AS (
-      SELECT strategy, COUNT(*) AS runs FROM base GROUP BY strategy
-      UNION ALL SELECT 'all', COUNT(*) FROM base
-    )
-    SELECT t.strategy, t.runs, COALESCE(s.isolated, 0) AS isolated, s.median_ms, s.p90_ms,
-           s.median_readings, s.mean_readings
-    FROM totals t LEFT JOIN stats s ON s.strategy = t.strategy
-    ORDER BY CASE t.strategy WHEN 'order' THEN 1 WHEN 'split' THEN 2 WHEN 'best' THEN 3 ELSE 4 END
-  `);
-  return rows.map((r) => ({
-    strategy: r.strategy,
-    runs: Number(r.runs),
-    isolated: Number(r.isolated),
-    medianMs: r.median_ms == null ? null : Number(r.median_ms),
-    p90Ms: r.p90_ms == null ? null : Number(r.p90_ms),
-    medianReadings: r.median_readings == null ? null : Number(r.median_readings),
-    meanReadings: r.mean_readings == null ? null : Math.round(Number(r.mean_readings) * 100) / 100,
-  }));
+  // 1. Counts and the readings median and mean: strategySummary.
+  const rows = await strategySummary(db, shopId, f);
+  // 2. Time to isolation: the nearest-rank median and p90 are single index entries of runs_strategy_ms /
+  //    runs_ms (ordered by isolated_at - started_at), reached by OFFSET (the p90 from the top end).
+  const rank = (n: number, pct: number) => Math.floor((n * pct + 99) / 100);
+  const ms = sql`r.isolated_at - r.created_at`;
+  const pick = (strategy: string, n: number, pct: number) => {
+    const top = pct > 50;
+    const offset = top ? n - rank(n, pct) : rank(n, pct) - 1;
+    return sql`(SELECT ${ms} FROM runs r
+      WHERE ${runConditions(shopId, f, { inOrder: true })} AND r.isolated_at IS NOT NULL
+        ${strategy === "all" ? sql`` : sql`AND r.strategy = ${strategy}`}
+      ORDER BY ${ms} ${sql.raw(top ? "DESC" : "ASC")} LIMIT 1 OFFSET ${offset})`;
+  };
+  const withIso = rows.filter((r) => Number(r.isolated) > 0);
+  const picks = withIso.length
+    ? ((
+        await db.all<Record<string, number | null>>(
+          sql`SELECT ${sql.join(
+            withIso.flatMap((r, i) => [
+              sql`${pick(r.strategy, Number(r.isolated), 50)} AS ${sql.raw(`m${i}`)}`,
+              sql`${pick(r.strategy, Number(r.isolated), 90)} AS ${sql.raw(`p${i}`)}`,
+            ]),
+            sql`, `,
+          )}`,
+        )
+      )[0] ?? {})
+    : {};
+  return rows.map((r) => {
+    const i = withIso.indexOf(r);
+    const m = i < 0 ? null : picks[`m${i}`];
+    const p = i < 0 ? null : picks[`p${i}`];
+    return {
+      strategy: r.strategy,
+      runs: Number(r.runs),
+      isolated: Number(r.isolated),
+      medianMs: m == null ? null : Number(m),
+      p90Ms: p == null ? null : Number(p),
+      medianReadings: r.median_readings == null ? null : Number(r.median_readings),
+      meanReadings: r.mean_readings == null ? null : Math.round(Number(r.mean_readings) * 100) / 100,
+    };
+  });
 }
 
 export type EscalationSpot = {
@@ -206,9 +302,9 @@ export type EscalationStats = { runs: number; escalated: number; spots: Escalati
  */
 export async function getEscalations(db: Db, shopId: string, f: InsightsFilter): Promise<EscalationStats> {
   const w = runConditions(shopId, f);
-  const [totals] = await db.all<{ runs: number; escalated: number }>(sql`
-    SELECT COUNT(*) AS runs, COALESCE(SUM(r.escalated_at IS NOT NULL), 0) AS escalated FROM runs r WHERE ${w}
-  `);
+  // Runs and escalated runs in the filter: the "all" row of the strategy summary (shared with the strategies
+  // table when both are asked for together).
+  const totals = (await strategySummary(db, shopId, f)).find((r) => r.strategy === "all");
   const spots = await db.all<{
     board_label: string;
     net_id: string | null;
@@ -216,14 +312,13 @@ export async function getEscalations(db: Db, shopId: string, f: InsightsFilter):
     n: number;
   }>(sql`
     WITH e AS (
-      SELECT r.board_id, r.map_version_id,
-             (SELECT x.net_id FROM readings x
-               WHERE x.run_id = r.id AND x.created_at <= r.escalated_at
-               ORDER BY x.seq DESC LIMIT 1) AS net_id
+      -- runs.escalation_net_id: the net of the last reading before escalated_at, kept by trigger (schema.server).
+      SELECT r.board_id, r.map_version_id, r.escalation_net_id AS net_id, COUNT(*) AS n
       FROM runs r WHERE ${w} AND r.escalated_at IS NOT NULL
+      GROUP BY r.board_id, r.map_version_id, r.escalation_net_id
     )
     SELECT b.board_number || CASE WHEN b.revision <> '' THEN ' rev ' || b.revision ELSE '' END AS board_label,
-           e.net_id, MAX(n.node_name) AS net_name, COUNT(*) AS n
+           e.net_id, MAX(n.node_name) AS net_name, SUM(e.n) AS n
     FROM e
     JOIN boards b ON b.id = e.board_id
     LEFT JOIN map_version_nodes n ON n.map_version_id = e.map_version_id AND n.node_id = e.net_id
@@ -245,16 +340,22 @@ export async function getEscalations(db: Db, shopId: string, f: InsightsFilter):
   };
 }
 
-/** Jobs, collapsed from their runs, on devices with a serial number: the base of both repeat statistics. */
+/**
+ * Jobs, collapsed from their runs, on devices with a serial number: the base of both repeat statistics. Only a
+ * serial number with more than one job can hold a repeat, so the spans are built for those jobs alone
+ * (jobs.serial_jobs, kept by trigger, and the partial index jobs_serial_repeats), each job's runs through the
+ * covering runs_job index.
+ */
 function jobSpans(shopId: string, f: InsightsFilter) {
   return sql`
     jr AS (
       SELECT r.job_id, j.serial, j.number AS job_number, MIN(r.created_at) AS started,
              MAX(COALESCE(r.closed_at, r.isolated_at, r.created_at)) AS ended, MAX(r.board_id) AS board_id,
              MAX(r.outcome = 'powers-on') AS fixed
-      FROM runs r JOIN jobs j ON j.id = r.job_id AND j.shop_id = ${shopId}
-      WHERE ${runConditions(shopId, f)} AND r.job_id IS NOT NULL AND j.serial <> ''
-      GROUP BY r.job_id
+      FROM jobs j CROSS JOIN runs r
+      WHERE j.shop_id = ${shopId} AND j.serial_jobs > 1 AND j.serial <> '' AND r.job_id = j.id
+        AND ${runConditions(shopId, f, { inOrder: true, throughKey: true })}
+      GROUP BY j.serial, j.number, j.id -- the order of jobs_serial_repeats: no sort
     ),
     seq AS (
       SELECT jr.*, LEAD(job_number) OVER win AS next_job_number, LEAD(started) OVER win AS next_started,
@@ -267,6 +368,24 @@ function jobSpans(shopId: string, f: InsightsFilter) {
     )`;
 }
 
+/**
+ * Jobs on a device with a serial number that have a run in the filter ending "powers on": the runs of one
+ * walk of runs_outcome_job, grouped in job order; jobs without a serial number are left out by the set of
+ * those (usually few or none, from jobs_shop_serial).
+ */
+async function fixedJobsCount(db: Db, shopId: string, f: InsightsFilter): Promise<number> {
+  // The set is only built (and probed per run) when the shop has a job without a serial number at all.
+  const [anyBlank] = await db.all<{ n: number }>(
+    sql`SELECT EXISTS (SELECT 1 FROM jobs nj WHERE nj.shop_id = ${shopId} AND nj.serial = '') AS n`,
+  );
+  const [row] = await db.all<{ n: number }>(sql`SELECT COUNT(*) AS n FROM (
+      SELECT r.job_id FROM runs r
+      WHERE ${runConditions(shopId, f, { inOrder: true })} AND r.outcome = 'powers-on' AND r.job_id IS NOT NULL
+        ${Number(anyBlank?.n) ? sql`AND r.job_id NOT IN (SELECT nj.id FROM jobs nj WHERE nj.shop_id = ${shopId} AND nj.serial = '')` : sql``}
+      GROUP BY r.job_id)`);
+  return Number(row?.n ?? 0);
+}
+
 export type RepeatFailure = {
   serial: string;
   boardLabel: string;
@@ -277,30 +396,35 @@ export type RepeatFailure = {
 
 export type RepeatStats = { fixedJobs: number; repeats: number; list: RepeatFailure[] } & FailureRate;
 
+type RepeatRow = {
+  job_id: string;
+  serial: string;
+  board_label: string;
+  job_number: number;
+  next_job_number: number;
+  gap: number;
+};
+
+function repeatJobs(db: Db, shopId: string, f: InsightsFilter): Promise<RepeatRow[]> {
+  return shared(db, "repeats", shopId, f, () =>
+    db.all<RepeatRow>(sql`
+      WITH ${jobSpans(shopId, f)}
+      SELECT rp.job_id, rp.serial, rp.job_number, rp.next_job_number, rp.next_started - rp.ended AS gap,
+             b.board_number || CASE WHEN b.revision <> '' THEN ' rev ' || b.revision ELSE '' END AS board_label
+      FROM repeats rp JOIN boards b ON b.id = rp.board_id
+      ORDER BY rp.started DESC
+    `),
+  );
+}
+
 /**
  * A repeat failure: a job whose run ended "powers on", followed by another job on the same serial number that
  * started within 30 days of the first job's last run. Rate = repeats ÷ fixed jobs with a serial number.
  */
 export async function getRepeatFailures(db: Db, shopId: string, f: InsightsFilter): Promise<RepeatStats> {
-  const [totals] = await db.all<{ fixed_jobs: number; repeats: number }>(sql`
-    WITH ${jobSpans(shopId, f)}
-    SELECT (SELECT COUNT(*) FROM jr WHERE fixed = 1) AS fixed_jobs, (SELECT COUNT(*) FROM repeats) AS repeats
-  `);
-  const list = await db.all<{
-    serial: string;
-    board_label: string;
-    job_number: number;
-    next_job_number: number;
-    gap: number;
-  }>(sql`
-    WITH ${jobSpans(shopId, f)}
-    SELECT rp.serial, rp.job_number, rp.next_job_number, rp.next_started - rp.ended AS gap,
-           b.board_number || CASE WHEN b.revision <> '' THEN ' rev ' || b.revision ELSE '' END AS board_label
-    FROM repeats rp JOIN boards b ON b.id = rp.board_id
-    ORDER BY rp.started DESC LIMIT 500
-  `);
-  const fixedJobs = Number(totals?.fixed_jobs ?? 0);
-  const repeats = Number(totals?.repeats ?? 0);
+  const [all, fixedJobs] = await Promise.all([repeatJobs(db, shopId, f), fixedJobsCount(db, shopId, f)]);
+  const list = all.slice(0, 500);
+  const repeats = all.length;
   return {
     fixedJobs,
     repeats,
@@ -322,14 +446,26 @@ export type FixKindStats = { fixKind: string; fixes: number; firstTime: number }
  * its device does not come back within 30 days (no repeat failure on its serial number).
  */
 export async function getFirstTimeFix(db: Db, shopId: string, f: InsightsFilter): Promise<FixKindStats[]> {
+  // Findings per fix type from findings_fix (the run's filter columns are on the finding), less the fixes
+  // that powered on but whose job came back (the few repeat jobs, through their runs).
+  const repeatIds = (await repeatJobs(db, shopId, f)).map((r) => r.job_id);
   const rows = await db.all<{ fix_kind: string; fixes: number; first_time: number }>(sql`
-    WITH ${jobSpans(shopId, f)}
-    SELECT fd.fix_kind, COUNT(*) AS fixes,
-           SUM(fd.outcome = 'powers-on' AND (r.job_id IS NULL OR r.job_id NOT IN (SELECT job_id FROM repeats)))
-             AS first_time
-    FROM runs r JOIN findings fd ON fd.run_id = r.id
-    WHERE ${runConditions(shopId, f)} AND fd.fix_kind IS NOT NULL AND fd.outcome IS NOT NULL
-    GROUP BY fd.fix_kind
+    WITH came_back AS (
+      SELECT fd.fix_kind, COUNT(*) AS n
+      FROM json_each(${JSON.stringify(repeatIds)}) rp CROSS JOIN runs r CROSS JOIN findings fd
+      WHERE r.job_id = rp.value AND ${runConditions(shopId, f, { inOrder: true, throughKey: true })}
+        AND fd.run_id = r.id
+        AND fd.fix_kind IS NOT NULL AND fd.outcome = 'powers-on'
+      GROUP BY fd.fix_kind
+    ),
+    per_kind AS (
+      SELECT fd.fix_kind, COUNT(*) AS fixes, SUM(fd.outcome = 'powers-on') AS powers_on
+      FROM findings fd
+      WHERE ${findingConditions(shopId, f, { inOrder: true })} AND fd.fix_kind IS NOT NULL AND fd.outcome IS NOT NULL
+      GROUP BY fd.fix_kind
+    )
+    SELECT k.fix_kind, k.fixes, k.powers_on - COALESCE(cb.n, 0) AS first_time
+    FROM per_kind k LEFT JOIN came_back cb ON cb.fix_kind = k.fix_kind
   `);
   return rows
     .map((r) => {
@@ -362,12 +498,18 @@ export async function getPartsUsage(
   f: InsightsFilter,
   now = Date.now(),
 ): Promise<PartsUsage> {
+  // findings_parts walks the findings in (parts list, month) order: they are counted per distinct list and
+  // month first (no sort, no JSON per finding), and only those few groups are split into parts.
   const rows = await db.all<{ month: string; part: string; qty: number }>(sql`
-    SELECT strftime('%Y-%m', fd.created_at / 1000, 'unixepoch') AS month, p.value AS part, COUNT(*) AS qty
-    FROM runs r JOIN findings fd ON fd.run_id = r.id, json_each(fd.parts_used) p
-    WHERE ${runConditions(shopId, f)} AND fd.parts_used IS NOT NULL AND json_valid(fd.parts_used)
-      AND p.type = 'text'
-    GROUP BY month, part
+    SELECT g.month, p.value AS part, SUM(g.n) AS qty
+    FROM (
+      SELECT fd.created_month AS month, fd.parts_used AS pu, COUNT(*) AS n
+      FROM findings fd
+      WHERE ${findingConditions(shopId, f, { inOrder: true })} AND fd.parts_used IS NOT NULL
+      GROUP BY fd.parts_used, fd.created_month
+    ) g, json_each(g.pu) p
+    WHERE json_valid(g.pu) AND p.type = 'text'
+    GROUP BY g.month, part
   `);
   const lastDay = new Date(f.toMs - DAY_MS).toISOString().slice(0, 10);
   const months = monthsBetween(f.from, lastDay);

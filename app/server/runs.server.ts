@@ -28,6 +28,7 @@ import {
   stageStrip,
 } from "~/lib/walker";
 import { db } from "./db.server";
+import { getFindingPriors } from "./priors.server";
 import { newId } from "./ids.server";
 import {
   boards,
@@ -134,46 +135,6 @@ export function findJob(shopId: string, idOrNumber: string) {
 // ---------------------------------------------------------------------------------------------------------
 // History: priors for `best` and fix success rates
 
-/**
- * Prior counts per engine candidate id (part id or `short:<netId>`) from the shop's past findings on a board,
- * and how many runs they come from. Findings whose fix left the board still dead are left out: they were not
- * the fault. The engine applies Laplace smoothing. Shared with the insights pages.
- */
-export async function getFindingPriors(
-  shopId: string,
-  boardId: string,
-  opts: { mapVersionId?: string } = {},
-): Promise<{ priors: Record<string, number>; findings: number; runs: number }> {
-  const where = and(
-    eq(findings.shopId, shopId),
-    eq(findings.boardId, boardId),
-    inArray(findings.kind, ["part", "short"]),
-    or(isNull(findings.outcome), sql`${findings.outcome} <> 'still-dead'`),
-    opts.mapVersionId ? eq(findings.mapVersionId, opts.mapVersionId) : undefined,
-  );
-  const [rows, distinct] = await Promise.all([
-    db
-      .select({ kind: findings.kind, nodeId: findings.nodeId, n: sql<number>`count(*)` })
-      .from(findings)
-      .where(where)
-      .groupBy(findings.kind, findings.nodeId)
-      .all(),
-    db
-      .select({ runs: sql<number>`count(distinct ${findings.runId})` })
-      .from(findings)
-      .where(where)
-      .get(),
-  ]);
-  const priors: Record<string, number> = {};
-  let total = 0;
-  for (const r of rows) {
-    if (!r.nodeId) continue;
-    priors[r.kind === "short" ? `short:${r.nodeId}` : r.nodeId] = Number(r.n);
-    total += Number(r.n);
-  }
-  return { priors, findings: total, runs: Number(distinct?.runs ?? 0) };
-}
-
 /** For each fix of a part: how often the shop tried it on this board and how often the board then powered on. */
 export async function getFixSuccess(shopId: string, boardId: string, nodeId: string) {
   const rows = await db
@@ -206,7 +167,10 @@ export async function getFixSuccess(shopId: string, boardId: string, nodeId: str
 // Short-lived per-process caches: priors and the shop's meter change rarely, and every reading reads both.
 // Writes in this module forget them at once; another process sees a change within CACHE_MS.
 const CACHE_MS = 5000;
-const priorsCache = new Map<string, { at: number; value: Awaited<ReturnType<typeof getFindingPriors>> }>();
+const priorsCache = new Map<
+  string,
+  { at: number; value: { priors: Record<string, number>; runs: number } }
+>();
 const meterCache = new Map<string, { at: number; value: MeterProfile | undefined }>();
 
 function forgetShopCaches(shopId: string) {
@@ -214,11 +178,13 @@ function forgetShopCaches(shopId: string) {
   for (const k of priorsCache.keys()) if (k.startsWith(`${shopId}|`)) priorsCache.delete(k);
 }
 
-async function cachedPriors(shopId: string, boardId: string) {
-  const key = `${shopId}|${boardId}`;
+async function cachedPriors(shopId: string, boardId: string, mapVersionId: string) {
+  const key = `${shopId}|${boardId}|${mapVersionId}`;
   const hit = priorsCache.get(key);
   if (hit && Date.now() - hit.at < CACHE_MS) return hit.value;
-  const value = await getFindingPriors(shopId, boardId);
+  // This version's findings first, widening to the board's other versions and the model's other revisions.
+  const found = await getFindingPriors(shopId, boardId, mapVersionId);
+  const value = { priors: found.counts, runs: found.runs };
   if (priorsCache.size > 1000) priorsCache.clear();
   priorsCache.set(key, { at: Date.now(), value });
   return value;
@@ -331,16 +297,25 @@ function effectiveReadings(rows: ReadingRow[], round: number): Reading[] {
   }));
 }
 
+/** Points the tech skipped ("can't reach") this round: the engine never proposes them again. */
+function skippedChecks(rows: ReadingRow[], round: number): Array<{ netId: string; mode: Mode }> {
+  const seen = new Map<string, { netId: string; mode: Mode }>();
+  for (const r of rows)
+    if (r.round === round && r.skipped) seen.set(`${r.netId}:${r.mode}`, { netId: r.netId, mode: r.mode });
+  return [...seen.values()].sort((a, b) => (`${a.netId}:${a.mode}` < `${b.netId}:${b.mode}` ? -1 : 1));
+}
+
 // The action and the revalidation right after it analyse the same readings: keep recent analyses by content.
 const analysisCache = new Map<string, Analysis>();
 
 async function analyseRun(shopId: string, run: RunRow, doc: MapDocument, rows: ReadingRow[]) {
   const [{ priors, runs: learnedFrom }, meter] = await Promise.all([
-    run.strategy === "best" ? cachedPriors(shopId, run.boardId) : { priors: {}, runs: 0 },
+    run.strategy === "best" ? cachedPriors(shopId, run.boardId, run.mapVersionId) : { priors: {}, runs: 0 },
     getMeter(shopId),
   ]);
   const setup = { condition: run.condition, ...(meter ? { meter } : {}) };
   const effective = effectiveReadings(rows, run.round);
+  const exclude = skippedChecks(rows, run.round);
   const key = JSON.stringify([
     run.mapVersionId,
     run.condition.sourcesAttached,
@@ -348,10 +323,17 @@ async function analyseRun(shopId: string, run: RunRow, doc: MapDocument, rows: R
     priors,
     meter ?? null,
     effective.map((r) => [r.id, r.netId, r.mode, r.value]),
+    exclude.map((x) => `${x.netId}:${x.mode}`),
   ]);
   let analysis = analysisCache.get(key);
   if (!analysis) {
-    const a = analyse(doc, setup, effective, { strategy: run.strategy, priors });
+    // The map version id names one immutable document: the engine keeps its compiled map under it.
+    const a = analyse(doc, setup, effective, {
+      strategy: run.strategy,
+      priors,
+      cacheKey: run.mapVersionId,
+      exclude,
+    });
     if (!a.ok) throw new RunError(400, a.error.message);
     analysis = a.value;
     if (analysisCache.size >= 500) analysisCache.delete(analysisCache.keys().next().value as string);
@@ -503,7 +485,7 @@ export async function getRunView(shopId: string, runId: string) {
     ).map((u) => [u.id, u.name]),
   );
   const { analysis, learnedFrom } = await analyseRun(shopId, run, doc, rows);
-  const step = run.status === "closed" ? null : chooseStep(doc, run, rows, notes, analysis);
+  const step = run.status === "closed" ? null : chooseStep(doc, notes, analysis);
   const seq = powerUpSequence(doc);
   const netOrder = seq.ok
     ? seq.value.nets
@@ -629,8 +611,6 @@ function netStates(a: Analysis, netOrder: string[]): Map<string, NetState> {
 
 function chooseStep(
   doc: MapDocument,
-  run: RunRow,
-  rows: ReadingRow[],
   notes: Array<typeof runNotes.$inferSelect>,
   analysis: Analysis,
 ): Step | null {
@@ -641,25 +621,17 @@ function chooseStep(
       { netId: leadStep.netId, mode: leadStep.mode, why: `A lead asked for this check: ${leadStep.text}` },
       { leadStepId: leadStep.id },
     );
-  if (analysis.isolated || !analysis.next) return null;
-  const skipped = new Set(
-    rows.filter((r) => r.round === run.round && r.skipped).map((r) => `${r.netId}:${r.mode}`),
-  );
-  const key = (s: { netId: string; mode: Mode }) => `${s.netId}:${s.mode}`;
-  let next: NextStep = analysis.next;
-  if (skipped.has(key(next))) {
-    // Engine has no "can't reach" input yet: make skipped points very expensive and let `best` choose around them.
-    const costs: Record<string, number> = {};
-    for (const k of skipped) costs[k] = 1e9;
-    const alt = nextReading(analysis, "best", undefined, costs);
-    if (alt.ok && alt.value && !skipped.has(key(alt.value))) next = alt.value;
-    else
-      return stepFrom(doc, next, {
-        skippedBefore: true,
-        why: `${next.why} You skipped this point before; no other reading in the map tells the remaining suspects apart.`,
-      });
-  }
-  return stepFrom(doc, next);
+  if (analysis.isolated) return null;
+  // Skipped points are excluded in the analysis, so `next` already keeps the run's own strategy around them.
+  if (analysis.next) return stepFrom(doc, analysis.next);
+  if (!analysis.stuck) return null;
+  // Only skipped points could still tell the suspects apart: offer the engine's choice among them again.
+  const again = nextReading(analysis, undefined, undefined, undefined, { exclude: [] });
+  if (!again.ok || !again.value) return null;
+  return stepFrom(doc, again.value, {
+    skippedBefore: true,
+    why: `${again.value.why} You skipped this point before. ${analysis.stuckMessage ?? ""}`.trim(),
+  });
 }
 
 // ---------------------------------------------------------------------------------------------------------
@@ -747,7 +719,9 @@ export async function saveReading(input: SaveReadingInput): Promise<SaveReadingA
   if (!input.skip) {
     const q = parseQuantity(input.text, unitForMode(input.mode));
     if (!q.ok) throw new RunError(400, q.error.message);
-    const j = judgeReading(doc, { netId: node.id, mode: input.mode, value: q.value.value }, meter);
+    const j = judgeReading(doc, { netId: node.id, mode: input.mode, value: q.value.value }, meter, {
+      cacheKey: run.mapVersionId,
+    });
     if (!j.ok) throw new RunError(400, j.error.message);
     value = q.value.value === "OL" ? "OL" : String(q.value.value);
     verdict = j.value.verdict;

@@ -212,6 +212,10 @@ export const jobs = sqliteTable(
     anonymisedAt: integer("anonymised_at", { mode: "timestamp_ms" }),
     createdBy: text("created_by"),
     createdAt: createdAt(),
+    // Rollup for insights: how many of the shop's jobs carry this serial number (kept by the `jobs_serial_*`
+    // triggers, ROLLUP_TRIGGERS, in the same statement as each job write). Only a serial with more than one
+    // job can be a repeat failure.
+    serialJobs: integer("serial_jobs").notNull().default(1),
   },
   (t) => [
     uniqueIndex("jobs_shop_number").on(t.shopId, t.number),
@@ -219,6 +223,9 @@ export const jobs = sqliteTable(
     // Insights: repeat failures on the same serial number.
     index("jobs_shop_serial").on(t.shopId, t.serial),
     index("jobs_id_serial").on(t.id, t.serial, t.number),
+    index("jobs_serial_repeats")
+      .on(t.shopId, t.serial, t.number, t.id, t.serialJobs)
+      .where(sql`${t.serialJobs} > 1 AND ${t.serial} <> ''`),
   ],
 );
 
@@ -249,11 +256,27 @@ export const runs = sqliteTable(
     startedAt: createdAt(),
     isolatedAt: integer("isolated_at", { mode: "timestamp_ms" }),
     closedAt: integer("closed_at", { mode: "timestamp_ms" }),
+    // Rollup for insights: readings that count (not skipped, not a correction), kept by the
+    // `readings_count_*` triggers (ROLLUP_TRIGGERS) in the same statement as each reading write.
+    readingCount: integer("reading_count").notNull().default(0),
+    // Rollup for insights: the net of the last reading taken before escalated_at (`runs_escalation_*` triggers).
+    escalationNetId: text("escalation_net_id"),
   },
   (t) => [
     index("runs_shop_board").on(t.shopId, t.boardId, t.startedAt),
     index("runs_version").on(t.mapVersionId),
-    index("runs_job").on(t.jobId),
+    // Covering for insights' repeat failures (a job's runs); the job_id prefix serves the foreign key.
+    index("runs_job").on(
+      t.jobId,
+      t.startedAt,
+      t.closedAt,
+      t.isolatedAt,
+      t.boardId,
+      t.outcome,
+      t.shopId,
+      t.mapVersionId,
+      t.techId,
+    ),
     // Insights (bench/insights.ts measures them): a shop's runs by date, covering every column the
     // insights queries read, so 100,000 runs aggregate from the index without touching the table.
     index("runs_shop_started").on(
@@ -271,6 +294,64 @@ export const runs = sqliteTable(
       t.closedAt,
       t.id,
     ),
+    // Insights, one index per question so each aggregates in index order (no sort of 100,000 rows).
+    // Hot spots: ended runs per board and version.
+    index("runs_shop_board_version").on(
+      t.shopId,
+      t.boardId,
+      t.mapVersionId,
+      t.startedAt,
+      t.status,
+      t.techId,
+      t.outcome,
+    ),
+    // Strategies: runs, isolated runs and readings per run per strategy (a histogram of reading_count).
+    index("runs_strategy_readings").on(
+      t.shopId,
+      t.strategy,
+      t.readingCount,
+      t.startedAt,
+      t.boardId,
+      t.mapVersionId,
+      t.techId,
+      t.outcome,
+      t.isolatedAt,
+      t.escalatedAt,
+    ),
+    // Strategies: time to isolation in order, per strategy and overall, so a percentile is an OFFSET.
+    index("runs_strategy_ms")
+      .on(
+        t.shopId,
+        t.strategy,
+        sql`(${t.isolatedAt} - ${t.startedAt})`,
+        t.startedAt,
+        t.isolatedAt,
+        t.boardId,
+        t.mapVersionId,
+        t.techId,
+        t.outcome,
+      )
+      .where(sql`${t.isolatedAt} IS NOT NULL`),
+    index("runs_ms")
+      .on(
+        t.shopId,
+        sql`(${t.isolatedAt} - ${t.startedAt})`,
+        t.startedAt,
+        t.isolatedAt,
+        t.boardId,
+        t.mapVersionId,
+        t.techId,
+        t.outcome,
+      )
+      .where(sql`${t.isolatedAt} IS NOT NULL`),
+    // Escalations: only the escalated runs.
+    index("runs_escalated")
+      .on(t.shopId, t.startedAt, t.boardId, t.mapVersionId, t.techId, t.outcome, t.escalationNetId)
+      .where(sql`${t.escalatedAt} IS NOT NULL`),
+    // Repeat failures: jobs fixed ("powers on") in the window, in job order.
+    index("runs_outcome_job")
+      .on(t.shopId, t.outcome, t.jobId, t.startedAt, t.boardId, t.mapVersionId, t.techId)
+      .where(sql`${t.jobId} IS NOT NULL`),
   ],
 );
 
@@ -326,9 +407,61 @@ export const findings = sqliteTable(
     round: integer("round").notNull().default(1),
     recordedBy: text("recorded_by"),
     createdAt: createdAt(),
+    // The run's filter columns copied onto its findings for insights, so hot spots, parts and first-time fix
+    // aggregate findings without a join per run. Kept by the `findings_run_copy_*` triggers (ROLLUP_TRIGGERS)
+    // in the same statement as the finding's insert and as every change to the run.
+    runStartedAt: integer("run_started_at"),
+    runBoardId: text("run_board_id"),
+    runVersionId: text("run_version_id"),
+    runTechId: text("run_tech_id"),
+    runStatus: text("run_status"),
+    runOutcome: text("run_outcome"),
+    /** UTC calendar month of created_at ("2026-03"), by the same triggers: parts are counted per month. */
+    createdMonth: text("created_month"),
+    /** 0 when an earlier part/short finding of the same run names the same node (hot spots count runs). */
+    nodeFirst: integer("node_first").notNull().default(1),
   },
   (t) => [
     index("findings_shop_board_node").on(t.shopId, t.boardId, t.nodeId),
+    // Insights: hot spots per board and node, in index order.
+    index("findings_hot").on(
+      t.shopId,
+      t.runBoardId,
+      t.nodeId,
+      t.runStartedAt,
+      t.kind,
+      t.runStatus,
+      t.runTechId,
+      t.runOutcome,
+      t.runVersionId,
+      t.nodeFirst,
+    ),
+    // Insights: first-time fix per fix type.
+    index("findings_fix")
+      .on(
+        t.shopId,
+        t.fixKind,
+        t.runStartedAt,
+        t.runBoardId,
+        t.runVersionId,
+        t.runTechId,
+        t.runOutcome,
+        t.outcome,
+      )
+      .where(sql`${t.fixKind} IS NOT NULL AND ${t.outcome} IS NOT NULL`),
+    // Insights: parts per month, grouped in index order by the parts list and the UTC month.
+    index("findings_parts")
+      .on(
+        t.shopId,
+        t.partsUsed,
+        t.createdMonth,
+        t.runStartedAt,
+        t.runBoardId,
+        t.runVersionId,
+        t.runTechId,
+        t.runOutcome,
+      )
+      .where(sql`${t.partsUsed} IS NOT NULL`),
     // Insights: findings of a set of runs, and parts used per month.
     // Kept narrow on purpose: the bench measured a wider covering version slower (more pages per probe).
     index("findings_run").on(t.runId, t.nodeId, t.kind),
@@ -637,3 +770,83 @@ export const webhookEvents = sqliteTable("webhook_events", {
   type: text("type").notNull(),
   receivedAt: createdAt(),
 });
+
+// ---- Insights rollups (docs/decisions/006, bench/insights.ts) ----
+// SQLite triggers keep the rollup columns above (runs.reading_count, findings.run_*) in the same statement, so
+// in the same transaction, as the rows they summarise, whichever code path writes them (the walker, the demo
+// seed, fixtures, scripts). Drizzle-kit does not generate triggers: db.server.ts installs these after the
+// migrations and, when it (re)creates any of them, recomputes every rollup column in the same transaction.
+const FINDING_RUN_COLUMNS =
+  "run_started_at, run_board_id, run_version_id, run_tech_id, run_status, run_outcome";
+const RUN_COLUMNS = "created_at, board_id, map_version_id, tech_id, status, outcome";
+const MONTH = (row: string) => `strftime('%Y-%m', ${row}.created_at / 1000, 'unixepoch')`;
+const counted = (row: string) => `${row}.skipped = 0 AND ${row}.replaces_id IS NULL`;
+
+export const ROLLUP_TRIGGERS: Record<string, string> = {
+  readings_count_insert: `CREATE TRIGGER readings_count_insert AFTER INSERT ON readings WHEN ${counted("NEW")}
+BEGIN UPDATE runs SET reading_count = reading_count + 1 WHERE id = NEW.run_id; END`,
+  readings_count_delete: `CREATE TRIGGER readings_count_delete AFTER DELETE ON readings WHEN ${counted("OLD")}
+BEGIN UPDATE runs SET reading_count = reading_count - 1 WHERE id = OLD.run_id; END`,
+  readings_count_update: `CREATE TRIGGER readings_count_update AFTER UPDATE OF run_id, skipped, replaces_id ON readings
+BEGIN
+  UPDATE runs SET reading_count = reading_count - 1 WHERE id = OLD.run_id AND ${counted("OLD")};
+  UPDATE runs SET reading_count = reading_count + 1 WHERE id = NEW.run_id AND ${counted("NEW")};
+END`,
+  findings_run_copy_insert: `CREATE TRIGGER findings_run_copy_insert AFTER INSERT ON findings
+BEGIN UPDATE findings SET (${FINDING_RUN_COLUMNS}) = (SELECT ${RUN_COLUMNS} FROM runs WHERE id = NEW.run_id),
+  created_month = ${MONTH("NEW")} WHERE rowid = NEW.rowid; END`,
+  findings_run_copy_update: `CREATE TRIGGER findings_run_copy_update AFTER UPDATE OF run_id, created_at ON findings
+BEGIN UPDATE findings SET (${FINDING_RUN_COLUMNS}) = (SELECT ${RUN_COLUMNS} FROM runs WHERE id = NEW.run_id),
+  created_month = ${MONTH("NEW")} WHERE rowid = NEW.rowid; END`,
+  findings_run_copy_from_run: `CREATE TRIGGER findings_run_copy_from_run AFTER UPDATE OF ${RUN_COLUMNS} ON runs
+BEGIN UPDATE findings SET (${FINDING_RUN_COLUMNS}) =
+  (NEW.created_at, NEW.board_id, NEW.map_version_id, NEW.tech_id, NEW.status, NEW.outcome)
+  WHERE run_id = NEW.id; END`,
+};
+
+const ESCALATION_NET = (run: string) => `(SELECT x.net_id FROM readings x
+    WHERE x.run_id = ${run}.id AND x.created_at <= ${run}.escalated_at ORDER BY x.seq DESC LIMIT 1)`;
+const escalationFor = (runId: string) =>
+  `UPDATE runs SET escalation_net_id = ${ESCALATION_NET("runs")} WHERE id = ${runId} AND escalated_at IS NOT NULL;`;
+const serialCount = (row: string) => `UPDATE jobs SET serial_jobs =
+    (SELECT COUNT(*) FROM jobs k WHERE k.shop_id = ${row}.shop_id AND k.serial = ${row}.serial)
+    WHERE shop_id = ${row}.shop_id AND serial = ${row}.serial AND ${row}.serial <> '';`;
+
+const nodeFirstFor = (runId: string) => `UPDATE findings SET node_first = NOT EXISTS (SELECT 1 FROM findings g
+    WHERE g.run_id = findings.run_id AND g.node_id = findings.node_id AND g.kind IN ('part', 'short')
+      AND g.rowid < findings.rowid) WHERE run_id = ${runId};`;
+
+Object.assign(ROLLUP_TRIGGERS, {
+  findings_node_first_insert: `CREATE TRIGGER findings_node_first_insert AFTER INSERT ON findings
+BEGIN ${nodeFirstFor("NEW.run_id")} END`,
+  findings_node_first_delete: `CREATE TRIGGER findings_node_first_delete AFTER DELETE ON findings
+BEGIN ${nodeFirstFor("OLD.run_id")} END`,
+  findings_node_first_update: `CREATE TRIGGER findings_node_first_update AFTER UPDATE OF run_id, node_id, kind ON findings
+BEGIN ${nodeFirstFor("OLD.run_id")} ${nodeFirstFor("NEW.run_id")} END`,
+  runs_escalation_set: `CREATE TRIGGER runs_escalation_set AFTER UPDATE OF escalated_at ON runs
+BEGIN UPDATE runs SET escalation_net_id = ${ESCALATION_NET("NEW")} WHERE id = NEW.id; END`,
+  runs_escalation_insert: `CREATE TRIGGER runs_escalation_insert AFTER INSERT ON runs WHEN NEW.escalated_at IS NOT NULL
+BEGIN ${escalationFor("NEW.id")} END`,
+  runs_escalation_reading_insert: `CREATE TRIGGER runs_escalation_reading_insert AFTER INSERT ON readings
+BEGIN ${escalationFor("NEW.run_id")} END`,
+  runs_escalation_reading_delete: `CREATE TRIGGER runs_escalation_reading_delete AFTER DELETE ON readings
+BEGIN ${escalationFor("OLD.run_id")} END`,
+  runs_escalation_reading_update: `CREATE TRIGGER runs_escalation_reading_update
+AFTER UPDATE OF run_id, seq, created_at, net_id ON readings
+BEGIN ${escalationFor("OLD.run_id")} ${escalationFor("NEW.run_id")} END`,
+  jobs_serial_insert: `CREATE TRIGGER jobs_serial_insert AFTER INSERT ON jobs BEGIN ${serialCount("NEW")} END`,
+  jobs_serial_delete: `CREATE TRIGGER jobs_serial_delete AFTER DELETE ON jobs BEGIN ${serialCount("OLD")} END`,
+  jobs_serial_update: `CREATE TRIGGER jobs_serial_update AFTER UPDATE OF shop_id, serial ON jobs
+BEGIN ${serialCount("OLD")} ${serialCount("NEW")} END`,
+});
+
+/** Recomputes every rollup column from its source rows (run with the triggers' (re)installation). */
+export const ROLLUP_BACKFILL = [
+  `UPDATE runs SET reading_count = (SELECT COUNT(*) FROM readings x WHERE x.run_id = runs.id AND ${counted("x")})`,
+  `UPDATE findings SET (${FINDING_RUN_COLUMNS}) = (SELECT ${RUN_COLUMNS} FROM runs WHERE id = findings.run_id),
+     created_month = ${MONTH("findings")}`,
+  nodeFirstFor("findings.run_id").replace(/ WHERE run_id = findings\.run_id;$/, ""),
+  `UPDATE runs SET escalation_net_id = CASE WHEN escalated_at IS NULL THEN NULL ELSE ${ESCALATION_NET("runs")} END`,
+  `UPDATE jobs SET serial_jobs = CASE WHEN serial = '' THEN 1
+     ELSE (SELECT COUNT(*) FROM jobs k WHERE k.shop_id = jobs.shop_id AND k.serial = jobs.serial) END`,
+];

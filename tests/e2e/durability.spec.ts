@@ -58,7 +58,9 @@ async function signIn(base: string) {
 /** Opens a run on the demo OM-5150 board through the new-run form, as the page does. */
 async function newRun(base: string, cookie: string) {
   const boardId = "demo-board-om5150";
-  const page = await (await fetch(`${base}/runs/new?boardId=${boardId}`, { headers: { Cookie: cookie } })).text();
+  const page = await (
+    await fetch(`${base}/runs/new?boardId=${boardId}`, { headers: { Cookie: cookie } })
+  ).text();
   const mapVersionId = /name="mapVersionId"[^>]*><option value="([^"]+)"/.exec(page)?.[1];
   expect(mapVersionId, "the demo OM-5150 map has a published version").toBeTruthy();
   const res = await fetch(`${base}/runs/new?boardId=${boardId}`, {
@@ -76,7 +78,14 @@ function postReading(base: string, cookie: string, runId: string, id: string, se
   return fetch(`${base}/runs/${runId}.data`, {
     method: "POST",
     headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: base, Cookie: cookie },
-    body: new URLSearchParams({ intent: "reading", id, netId, mode: "voltage", text, expectedSeq: String(seq) }),
+    body: new URLSearchParams({
+      intent: "reading",
+      id,
+      netId,
+      mode: "voltage",
+      text,
+      expectedSeq: String(seq),
+    }),
   });
 }
 
@@ -115,7 +124,8 @@ test("every acknowledged reading survives a SIGKILL mid-burst", async () => {
         const res = await postReading(server.base, cookie, runId, id, seq);
         const body = await res.text();
         if (res.status >= 200 && res.status < 300) acknowledged.push(id);
-        else if (!killed) throw new Error(`reading refused before the kill: ${res.status} ${body.slice(0, 200)}`);
+        else if (!killed)
+          throw new Error(`reading refused before the kill: ${res.status} ${body.slice(0, 200)}`);
       } catch (e) {
         if (!killed) throw e;
         return;
@@ -149,7 +159,9 @@ test("every acknowledged reading survives a SIGKILL mid-burst", async () => {
       expect(seqs).toEqual(seqs.map((_, i) => i + 1));
     }
     // The restarted app shows the run with its readings (its own loader, not just the file).
-    const page = await fetch(`${server.base}/runs/${runs[0]}`, { headers: { Cookie: await signIn(server.base) } });
+    const page = await fetch(`${server.base}/runs/${runs[0]}`, {
+      headers: { Cookie: await signIn(server.base) },
+    });
     expect(page.status).toBe(200);
   } finally {
     server.child.kill("SIGTERM");

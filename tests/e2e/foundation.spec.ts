@@ -17,10 +17,10 @@ test("a visitor sets up a new shop and lands on its boards", async ({ page }) =>
 });
 
 const NAV_BY_ROLE = {
-  owner: ["Boards", "Runs", "Jobs", "Insights", "Shop settings"],
-  lead: ["Boards", "Runs", "Jobs", "Insights"],
-  tech: ["Boards", "Runs", "Jobs"],
-  desk: ["Boards", "Runs", "Jobs"],
+  owner: ["Boards", "Runs", "Jobs", "Insights", "Shop settings", "API tokens"],
+  lead: ["Boards", "Runs", "Jobs", "Insights", "API tokens"],
+  tech: ["Boards", "Runs", "Jobs", "API tokens"],
+  desk: ["Boards", "Runs", "Jobs", "API tokens"],
 } as const;
 
 for (const role of Object.keys(NAV_BY_ROLE) as Array<keyof typeof NAV_BY_ROLE>) {

@@ -19,6 +19,7 @@ const MODE_BY_LABEL = {
 
 async function startRun(page: Page, strategy?: "order" | "split" | "best") {
   await page.goto(`/runs/new?boardId=${BOARD}`);
+  await page.getByLabel("Published map version").selectOption("demo-map-om5150-v1");
   if (strategy) await page.getByLabel("Next-reading strategy").selectOption(strategy);
   await page.getByRole("radio", { name: "Charger and battery" }).check();
   await page.getByRole("button", { name: "Start the run" }).click();

@@ -92,9 +92,10 @@ const CASES: Case[] = Object.entries(ACCESS_TABLE).flatMap(([file, entry]) =>
   (["loader", "action"] as const).flatMap((fn) =>
     entry[fn]
       ? CALLERS.flatMap((caller) =>
-          ((entry.params && !entry.tokenKeyed) || entry[fn]?.other ? (["own", "other"] as const) : (["own"] as const)).map(
-            (shop) => ({ file, fn, caller, shop }),
-          ),
+          ((entry.params && !entry.tokenKeyed) || entry[fn]?.other
+            ? (["own", "other"] as const)
+            : (["own"] as const)
+          ).map((shop) => ({ file, fn, caller, shop })),
         )
       : [],
   ),

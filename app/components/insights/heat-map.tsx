@@ -41,9 +41,9 @@ const HeatNode = memo(function HeatNode({ data }: NodeProps<HeatFlowNode>) {
       <Handle type="target" position={Position.Left} isConnectable={false} className="!opacity-0" />
       <div className="flex items-baseline justify-between gap-2">
         <span className="truncate font-semibold">{data.title}</span>
-        <span className="shrink-0 opacity-80">{KIND_LABEL[data.kind]}</span>
+        <span className="shrink-0">{KIND_LABEL[data.kind]}</span>
       </div>
-      <div className="truncate opacity-90">{data.detail}</div>
+      <div className="truncate">{data.detail}</div>
       <div className="mt-1 font-mono font-semibold tabular-nums">
         {data.rate == null
           ? "not a finding"
@@ -61,9 +61,8 @@ export function HeatMap({ nodes, edges, title }: { nodes: HeatFlowNode[]; edges:
   return (
     <div className="flex flex-col gap-3">
       <HeatLegend />
-      <div
+      <section
         className="rw-heatmap h-[70vh] min-h-[420px] overflow-hidden rounded-lg border border-line bg-sunken"
-        role="img"
         aria-label={title}
       >
         <ReactFlow
@@ -84,7 +83,7 @@ export function HeatMap({ nodes, edges, title }: { nodes: HeatFlowNode[]; edges:
           <Background gap={24} color="var(--rw-line)" />
           <Controls showInteractive={false} />
         </ReactFlow>
-      </div>
+      </section>
     </div>
   );
 }

@@ -9,7 +9,16 @@ import {
   type Strategy,
   StrategySchema,
 } from "./map-document";
-import { judge, type Judgement, type MeterProfile, MeterProfileSchema, type Verdict } from "./judge";
+import {
+  isMeterProfile,
+  isMode,
+  isReadingValue,
+  type Judgement,
+  judgeValid,
+  type MeterProfile,
+  MeterProfileSchema,
+  type Verdict,
+} from "./judge";
 import {
   type CompiledMap,
   compileMap,
@@ -21,7 +30,14 @@ import {
   type Scenario,
   scenarioFor,
 } from "./model";
-import { chooseNext, type NextStep } from "./next-reading";
+import {
+  blockedChecks,
+  chooseNext,
+  type ExcludedCheck,
+  ExcludeSchema,
+  excludedSet,
+  type NextStep,
+} from "./next-reading";
 import { fail, guard, ok, type Result } from "./result";
 import { type CostModel, type Priors, priorWeights, type RunState, runStates } from "./run-state";
 import { formatQuantity, unitForMode } from "./units";
@@ -37,6 +53,26 @@ export const ReadingSchema = z.object({
   takenAt: z.string().max(40).optional(),
 });
 export type Reading = z.infer<typeof ReadingSchema>;
+/** `ReadingSchema` narrowed to what judgeReading needs (built once: zod compiles a schema on first use). */
+const ReadingPointSchema = ReadingSchema.pick({ netId: true, mode: true, value: true });
+const NET_ID = /^[A-Za-z0-9_.-]{1,64}$/;
+
+/** Plain-code twin of `ReadingSchema` (no zod per reading on the hot path); null when it does not fit. */
+function plainReading(r: unknown): Reading | null {
+  if (typeof r !== "object" || r === null || Array.isArray(r)) return null;
+  const x = r as Record<string, unknown>;
+  const { id, netId, mode, value, text, takenAt } = x;
+  if (typeof id !== "string" || id.length < 1 || id.length > 64) return null;
+  if (typeof netId !== "string" || !NET_ID.test(netId)) return null;
+  if (!isMode(mode) || !isReadingValue(value)) return null;
+  if (text !== undefined && (typeof text !== "string" || text.length > 64)) return null;
+  if (takenAt !== undefined && (typeof takenAt !== "string" || takenAt.length > 40)) return null;
+  // Same shape as zod's output: known keys only, in schema order.
+  const out: Reading = { id, netId, mode, value };
+  if ("text" in x) out.text = text as string | undefined;
+  if ("takenAt" in x) out.takenAt = takenAt as string | undefined;
+  return out;
+}
 
 export const RunSetupSchema = z.object({
   condition: z.object({ sourcesAttached: z.array(NodeIdSchema).max(100) }),
@@ -58,6 +94,11 @@ export type AnalyseOptions = {
    * under it, so a document parsed afresh per request still reuses the compiled map and its scenarios.
    */
   cacheKey?: string;
+  /**
+   * Checks the tech cannot take ("can't reach"): an excluded net and mode is never proposed as `next`. When
+   * only excluded checks could still separate the suspects, `next` is null and the analysis is `stuck`.
+   */
+  exclude?: ExcludedCheck[];
 };
 const AnalyseOptionsSchema = z
   .object({
@@ -68,6 +109,7 @@ const AnalyseOptionsSchema = z
       .optional(),
     rollout: z.boolean().optional(),
     cacheKey: z.string().min(1).max(200).optional(),
+    exclude: ExcludeSchema.optional(),
   })
   .optional();
 
@@ -121,6 +163,12 @@ export type Analysis = {
   /** How many further contradictions were found but not listed (absent when none). */
   contradictionsOmitted?: number;
   next: NextStep | null;
+  /**
+   * True when the suspects could still be told apart, but only by excluded (skipped) checks: `next` is null,
+   * no finding is made, and `stuckMessage` says so.
+   */
+  stuck: boolean;
+  stuckMessage?: string;
 };
 
 export type Run = {
@@ -138,31 +186,44 @@ function thresholdsFor(doc: MapDocument, node: NetNode) {
   };
 }
 
-function judgeOn(doc: MapDocument, node: NetNode, mode: Mode, value: number | "OL", meter?: MeterProfile) {
+/** Judges an already validated reading (mode, value) and meter against the map's net. */
+function judgeOn(
+  doc: MapDocument,
+  node: NetNode,
+  mode: Mode,
+  value: number | "OL",
+  meter?: MeterProfile,
+): Result<Judgement> {
   const nominal = node.kind === "rail" ? node.nominalV : node.highV;
   const range = node.expected[mode];
   const t = thresholdsFor(doc, node);
   if (range) {
     const missingV = t.missingV ?? (mode === "voltage" ? Math.max(0.1, 0.05 * Math.abs(nominal)) : undefined);
-    return judge({ mode, value }, range, meter, { missingV, shortedOhm: t.shortedOhm });
+    return ok(judgeValid(mode, value, range, meter, { missingV, shortedOhm: t.shortedOhm }));
   }
   if (mode === "voltage")
     return fail<Judgement>("no-expected", `${node.name} has no expected voltage in this map.`);
   // Without an expected window a resistance/diode reading still tells shorted from not shorted.
-  return judge({ mode, value }, { min: 0, max: Number.MAX_VALUE }, meter, { shortedOhm: t.shortedOhm });
+  return ok(judgeValid(mode, value, { min: 0, max: Number.MAX_VALUE }, meter, { shortedOhm: t.shortedOhm }));
 }
 
 /** Judges one reading against the map's expected window for its net and mode. */
 export const judgeReading = guard(
   (
-    doc: MapDocument,
+    doc: MapDocument | CompiledMap,
     reading: Pick<Reading, "netId" | "mode" | "value">,
     meter?: MeterProfile,
+    options?: { cacheKey?: string },
   ): Result<Judgement> => {
-    const c = compileMap(doc);
+    const key = options && typeof options === "object" ? options.cacheKey : undefined;
+    if (key !== undefined && (typeof key !== "string" || !key || key.length > 200))
+      return fail("invalid-input", "Options: cacheKey is a string.");
+    const c = compileFor(doc, { cacheKey: key });
     if (!c.ok) return c;
-    const r = ReadingSchema.pick({ netId: true, mode: true, value: true }).safeParse(reading);
+    const r = ReadingPointSchema.safeParse(reading);
     if (!r.success) return fail("invalid-input", "A reading needs netId, mode and a number or 'OL'.");
+    if (meter !== undefined && !isMeterProfile(meter) && !MeterProfileSchema.safeParse(meter).success)
+      return fail("invalid-input", "The meter profile is not valid.");
     const i = c.value.index.get(r.data.netId);
     if (i === undefined || !c.value.isNet[i])
       return fail("unknown-net", `No net "${r.data.netId}" in this map.`);
@@ -339,8 +400,9 @@ function analyseCore(
     costs,
     strategy,
     noRollout: options?.rollout === false,
+    excluded: excludedSet(m, options?.exclude),
   };
-  const next = chooseNext({
+  const ctx = {
     m,
     s,
     suspects: suspectsIdx,
@@ -349,7 +411,12 @@ function analyseCore(
     costs,
     strategy,
     noRollout: state.noRollout,
-  });
+    excluded: state.excluded,
+  };
+  const next = chooseNext(ctx);
+  // Only skipped checks could still tell the suspects apart: say so instead of guessing a finding.
+  const blocked = next ? [] : blockedChecks(ctx);
+  const stuck = blocked.length > 0;
 
   let finding: Finding | null = null;
   let isolated = false;
@@ -368,7 +435,7 @@ function analyseCore(
       provingReadingIds: provingReadings(s, obs, -1),
       fixes: [],
     };
-  } else if (!fallback && suspectsIdx.length > 1 && !next) {
+  } else if (!fallback && suspectsIdx.length > 1 && !next && !stuck) {
     const top = s.candidateIndex.get(suspects[0].id)!;
     finding = { ...findingFor(m, s, top, obs), ambiguousWith: suspects.slice(1).map((x) => x.id) };
     finding.message += ` The map's readings cannot tell it apart from ${suspects
@@ -389,9 +456,17 @@ function analyseCore(
     contradictions,
     ...(found.omitted ? { contradictionsOmitted: found.omitted } : {}),
     next: isolated ? null : next,
+    stuck,
+    ...(stuck ? { stuckMessage: stuckMessage(blocked, suspectsIdx.length) } : {}),
   };
   runStates.set(analysis, state);
   return ok(analysis);
+}
+
+function stuckMessage(blocked: Array<{ netName: string; mode: Mode }>, suspects: number): string {
+  const names = blocked.slice(0, 5).map((b) => `${b.netName} (${b.mode})`);
+  const more = blocked.length > 5 ? ` and ${blocked.length - 5} more` : "";
+  return `The remaining checks were skipped; ask a lead for help. Only ${names.join(", ")}${more} can still tell the ${suspects} remaining suspects apart.`;
 }
 
 function findingFor(m: CompiledMap, s: Scenario, k: number, obs: Obs[]): Finding {
@@ -511,6 +586,11 @@ export const analyse = guard(
     if (readings.length > MAX_READINGS) return fail("too-large", `At most ${MAX_READINGS} readings per run.`);
     const rs: Reading[] = [];
     for (const [i, r] of readings.entries()) {
+      const plain = plainReading(r);
+      if (plain) {
+        rs.push(plain);
+        continue;
+      }
       const p = ReadingSchema.safeParse(r);
       if (!p.success)
         return fail(
@@ -528,7 +608,7 @@ function parseOptions(options: unknown): Result<AnalyseOptions | undefined> {
   if (!o.success)
     return fail(
       "invalid-input",
-      "Options: strategy is order|split|best; priors and costs are maps of numbers; rollout is true|false; cacheKey is a string.",
+      "Options: strategy is order|split|best; priors and costs are maps of numbers; rollout is true|false; cacheKey is a string; exclude is a list of { netId, mode }.",
     );
   return ok(o.data);
 }

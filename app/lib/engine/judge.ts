@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { type Mode, ModeSchema, type Range, RangeSchema } from "./map-document";
+import { type Mode, type Range, RangeSchema } from "./map-document";
 import { fail, guard, ok, type Result } from "./result";
 
 export type Verdict = "in range" | "low" | "high" | "missing" | "shorted" | "open";
@@ -80,10 +80,61 @@ export function meterUncertainty(value: number, ranges: readonly MeterRange[] | 
   return (abs * range.pctOfReading) / 100 + range.counts * range.resolution;
 }
 
-const ReadingValueSchema = z.object({
-  mode: ModeSchema,
-  value: z.union([z.literal("OL"), z.number().finite()]),
-});
+const isFiniteNumber = (x: unknown): x is number => typeof x === "number" && Number.isFinite(x);
+const isObject = (x: unknown): x is Record<string, unknown> =>
+  typeof x === "object" && x !== null && !Array.isArray(x);
+const onlyKeys = (o: Record<string, unknown>, allowed: readonly string[]) =>
+  Object.keys(o).every((k) => allowed.includes(k));
+
+export const isMode = (x: unknown): x is Mode => x === "voltage" || x === "resistance" || x === "diode";
+export const isReadingValue = (x: unknown): x is number | "OL" => x === "OL" || isFiniteNumber(x);
+
+/** Plain-code twin of `RangeSchema` (no zod on the hot path). */
+export function isRange(x: unknown): x is Range {
+  if (!isObject(x)) return false;
+  if ("nominal" in x)
+    return (
+      onlyKeys(x, ["nominal", "tolerancePct"]) &&
+      isFiniteNumber(x.nominal) &&
+      isFiniteNumber(x.tolerancePct) &&
+      x.tolerancePct >= 0 &&
+      x.tolerancePct <= 100
+    );
+  return onlyKeys(x, ["min", "max"]) && isFiniteNumber(x.min) && isFiniteNumber(x.max) && x.min <= x.max;
+}
+
+const isMeterRange = (x: unknown): boolean =>
+  isObject(x) &&
+  onlyKeys(x, ["fullScale", "resolution", "pctOfReading", "counts"]) &&
+  isFiniteNumber(x.fullScale) &&
+  x.fullScale > 0 &&
+  isFiniteNumber(x.resolution) &&
+  x.resolution > 0 &&
+  isFiniteNumber(x.pctOfReading) &&
+  x.pctOfReading >= 0 &&
+  x.pctOfReading <= 100 &&
+  isFiniteNumber(x.counts) &&
+  x.counts >= 0 &&
+  x.counts <= 10_000;
+
+const isMeterRanges = (x: unknown): boolean => {
+  if (x === undefined) return true;
+  if (!Array.isArray(x) || x.length > 20) return false;
+  for (let i = 0; i < x.length; i++) if (!isMeterRange(x[i])) return false;
+  return true;
+};
+
+/** Plain-code twin of `MeterProfileSchema` (no zod on the hot path). */
+export function isMeterProfile(x: unknown): x is MeterProfile {
+  return (
+    isObject(x) &&
+    onlyKeys(x, ["name", "voltage", "resistance", "diode"]) &&
+    (x.name === undefined || (typeof x.name === "string" && x.name.length <= 120)) &&
+    isMeterRanges(x.voltage) &&
+    isMeterRanges(x.resistance) &&
+    isMeterRanges(x.diode)
+  );
+}
 
 /**
  * Judges one reading against its expected window. The window is widened by the meter's stated
@@ -96,47 +147,61 @@ export const judge = guard(
     meter?: MeterProfile,
     thresholds?: Thresholds,
   ): Result<Judgement> => {
-    const r = ReadingValueSchema.safeParse(reading);
-    if (!r.success) return fail("invalid-input", "A reading needs a mode and a finite number or 'OL'.");
-    const e = RangeSchema.safeParse(expected);
-    if (!e.success) return fail("invalid-input", "The expected range is not valid.");
-    if (meter !== undefined && !MeterProfileSchema.safeParse(meter).success)
+    // Plain checks (the zod schemas stay the reference: a value they accept is never refused here).
+    if (!isObject(reading) || !isMode(reading.mode) || !isReadingValue(reading.value))
+      return fail("invalid-input", "A reading needs a mode and a finite number or 'OL'.");
+    if (!isRange(expected) && !RangeSchema.safeParse(expected).success)
+      return fail("invalid-input", "The expected range is not valid.");
+    if (meter !== undefined && !isMeterProfile(meter) && !MeterProfileSchema.safeParse(meter).success)
       return fail("invalid-input", "The meter profile is not valid.");
-    const { mode, value } = r.data;
-    const window = windowOf(e.data);
-    const nominal = nominalOf(e.data);
-    const t = cleanThresholds(thresholds);
-    const missingV = t.missingV ?? Math.max(DEFAULT_MISSING_V, DEFAULT_MISSING_FRACTION * Math.abs(nominal));
-    const shortedOhm = t.shortedOhm ?? DEFAULT_SHORTED_OHM;
-    const base = { window, missingThresholdV: mode === "voltage" ? missingV : undefined };
-    const withShort = mode === "resistance" ? { shortedThresholdOhm: shortedOhm } : {};
-    if (value === "OL") {
-      return ok({
-        ...base,
-        ...withShort,
-        verdict: mode === "voltage" ? "high" : "open",
-        margin: 0,
-        uncertainty: 0,
-      });
-    }
-    const u = meterUncertainty(value, meter?.[mode]);
-    const margin = Math.min(value - window.min, window.max - value);
-    // A tiny relative slack so exact boundary values (e.g. 2.000 V ± 0.0036 V against 2.0036 V) are not
-    // lost to binary rounding of the window or of the uncertainty.
-    const slack = BOUNDARY_EPSILON * Math.max(Math.abs(value), Math.abs(window.min), Math.abs(window.max));
-    let verdict: Verdict;
-    // A reading whose uncertainty interval overlaps the window is in range, whatever the thresholds say;
-    // the missing/shorted thresholds only apply to readings outside the window.
-    if (value + u < window.min - slack) {
-      if (mode === "voltage" && Math.abs(value) < missingV) verdict = "missing";
-      else if (mode === "resistance" && value < shortedOhm) verdict = "shorted";
-      else if (mode === "diode" && value < DIODE_SHORTED_V) verdict = "shorted";
-      else verdict = "low";
-    } else if (value - u > window.max + slack) {
-      // Above the window is high even under the missing threshold (a signal expected near 0 V that reads
-      // a little more is not absent).
-      verdict = "high";
-    } else verdict = "in range";
-    return ok({ ...base, ...withShort, verdict, margin, uncertainty: u });
+    return ok(judgeValid(reading.mode, reading.value, expected, meter, thresholds));
   },
 );
+
+/**
+ * `judge` without input checks, for callers that validated at their own boundary (analyse, judgeReading):
+ * the mode, value, range and meter must already be valid.
+ */
+export function judgeValid(
+  mode: Mode,
+  value: number | "OL",
+  range: Range,
+  meter?: MeterProfile,
+  thresholds?: Thresholds,
+): Judgement {
+  const window = windowOf(range);
+  const nominal = nominalOf(range);
+  const t = cleanThresholds(thresholds);
+  const missingV = t.missingV ?? Math.max(DEFAULT_MISSING_V, DEFAULT_MISSING_FRACTION * Math.abs(nominal));
+  const shortedOhm = t.shortedOhm ?? DEFAULT_SHORTED_OHM;
+  const base = { window, missingThresholdV: mode === "voltage" ? missingV : undefined };
+  const withShort = mode === "resistance" ? { shortedThresholdOhm: shortedOhm } : {};
+  if (value === "OL") {
+    return {
+      ...base,
+      ...withShort,
+      verdict: mode === "voltage" ? "high" : "open",
+      margin: 0,
+      uncertainty: 0,
+    };
+  }
+  const u = meterUncertainty(value, meter?.[mode]);
+  const margin = Math.min(value - window.min, window.max - value);
+  // A tiny relative slack so exact boundary values (e.g. 2.000 V ± 0.0036 V against 2.0036 V) are not
+  // lost to binary rounding of the window or of the uncertainty.
+  const slack = BOUNDARY_EPSILON * Math.max(Math.abs(value), Math.abs(window.min), Math.abs(window.max));
+  let verdict: Verdict;
+  // A reading whose uncertainty interval overlaps the window is in range, whatever the thresholds say;
+  // the missing/shorted thresholds only apply to readings outside the window.
+  if (value + u < window.min - slack) {
+    if (mode === "voltage" && Math.abs(value) < missingV) verdict = "missing";
+    else if (mode === "resistance" && value < shortedOhm) verdict = "shorted";
+    else if (mode === "diode" && value < DIODE_SHORTED_V) verdict = "shorted";
+    else verdict = "low";
+  } else if (value - u > window.max + slack) {
+    // Above the window is high even under the missing threshold (a signal expected near 0 V that reads
+    // a little more is not absent).
+    verdict = "high";
+  } else verdict = "in range";
+  return { ...base, ...withShort, verdict, margin, uncertainty: u };
+}

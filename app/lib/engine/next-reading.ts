@@ -1,6 +1,15 @@
 import { z } from "zod";
 import { windowOf } from "./judge";
-import { type Mode, type NetNode, type ProbePoint, type Strategy, StrategySchema } from "./map-document";
+import {
+  MODES,
+  type Mode,
+  ModeSchema,
+  type NetNode,
+  NodeIdSchema,
+  type ProbePoint,
+  type Strategy,
+  StrategySchema,
+} from "./map-document";
 import { type CompiledMap, type Candidate, netOf, partOf, type Scenario } from "./model";
 import { fail, guard, ok, type Result } from "./result";
 import { type CostModel, type Priors, priorWeights, runStates } from "./run-state";
@@ -24,6 +33,27 @@ export type NextStep = {
   separates: number;
 };
 
+/** A check the tech cannot take (e.g. a point they cannot reach): never proposed as the next reading. */
+export type ExcludedCheck = { netId: string; mode: Mode };
+/** Every net has at most three modes and a map at most 2,000 nodes. */
+export const ExcludeSchema = z.array(z.object({ netId: NodeIdSchema, mode: ModeSchema })).max(6_000);
+
+const exKey = (net: number, mode: Mode) => net * 3 + MODES.indexOf(mode);
+
+/** Excluded checks as net-index keys; ids that are not nets of this map are ignored. Undefined when empty. */
+export function excludedSet(
+  m: CompiledMap,
+  list: readonly ExcludedCheck[] | undefined,
+): Set<number> | undefined {
+  if (!list?.length) return undefined;
+  const out = new Set<number>();
+  for (const x of list) {
+    const i = m.index.get(x.netId);
+    if (i !== undefined && m.isNet[i]) out.add(exKey(i, x.mode));
+  }
+  return out.size ? out : undefined;
+}
+
 export type ChooseContext = {
   m: CompiledMap;
   s: Scenario;
@@ -34,6 +64,8 @@ export type ChooseContext = {
   strategy: Strategy;
   /** Turn off the small-set rollout of `best` (used to measure the bare heuristic). */
   noRollout?: boolean;
+  /** Checks never to propose (see `excludedSet`). */
+  excluded?: Set<number>;
 };
 
 type Test = { net: number; mode: Mode; kind: "v" | "r"; mass: number; cost: number };
@@ -51,8 +83,14 @@ function testCost(ctx: ChooseContext, net: number, mode: Mode): number {
   return base + (node.probe.needsDisassembly && !ctx.disassembled ? DISASSEMBLY_SECONDS : 0);
 }
 
-const shortMode = (node: NetNode): Mode | null =>
-  node.expected.resistance ? "resistance" : node.expected.diode ? "diode" : null;
+const isExcluded = (ctx: ChooseContext, net: number, mode: Mode) => !!ctx.excluded?.has(exKey(net, mode));
+
+/** How to test a net for a short: resistance, else diode mode (skipping excluded checks). */
+function shortMode(ctx: ChooseContext, net: number, node: NetNode): Mode | null {
+  if (node.expected.resistance && !isExcluded(ctx, net, "resistance")) return "resistance";
+  if (node.expected.diode && !isExcluded(ctx, net, "diode")) return "diode";
+  return null;
+}
 
 /** Every reading that would split `members` (candidate indices), with the mass on its missing/shorted side. */
 function tests(ctx: ChooseContext, members: number[], w: ArrayLike<number>): { list: Test[]; total: number } {
@@ -69,14 +107,14 @@ function tests(ctx: ChooseContext, members: number[], w: ArrayLike<number>): { l
   for (const v of m.nets) {
     if (!s.baseline[v]) continue;
     const node = netOf(m, v);
-    if (node.expected.voltage && acc[v] > eps && acc[v] < total - eps)
+    if (node.expected.voltage && acc[v] > eps && acc[v] < total - eps && !isExcluded(ctx, v, "voltage"))
       list.push({ net: v, mode: "voltage", kind: "v", mass: acc[v], cost: testCost(ctx, v, "voltage") });
   }
   if (members.length > 1)
     for (let i = 0; i < members.length; i++) {
       const c = s.candidates[members[i]];
       if (c.kind !== "short") continue;
-      const mode = shortMode(netOf(m, c.node));
+      const mode = shortMode(ctx, c.node, netOf(m, c.node));
       if (mode && w[i] > eps && w[i] < total - eps)
         list.push({ net: c.node, mode, kind: "r", mass: w[i], cost: testCost(ctx, c.node, mode) });
     }
@@ -244,25 +282,50 @@ export function chooseNext(ctx: ChooseContext): NextStep | null {
   return t ? explain(ctx, t, total, ctx.strategy) : null;
 }
 
+/**
+ * The checks that could split the suspects but are excluded (empty when nothing is excluded or another
+ * check is left): what a stuck analysis names.
+ */
+export function blockedChecks(ctx: ChooseContext): Array<{ netId: string; netName: string; mode: Mode }> {
+  if (!ctx.excluded || ctx.suspects.length <= 1) return [];
+  if (tests(ctx, ctx.suspects, ctx.weights).list.length) return [];
+  const { list } = tests({ ...ctx, excluded: undefined }, ctx.suspects, ctx.weights);
+  return list.sort(byOrder(ctx.m)).map((t) => {
+    const node = netOf(ctx.m, t.net);
+    return { netId: node.id, netName: node.name, mode: t.mode };
+  });
+}
+
 const OptionsSchema = z.object({
   strategy: StrategySchema.optional(),
   priors: z.record(z.string(), z.number()).optional(),
   costs: z
     .union([z.literal("probe-time"), z.literal("uniform"), z.record(z.string(), z.number())])
     .optional(),
+  options: z.object({ exclude: ExcludeSchema.optional() }).optional(),
 });
 
-/** Recomputes the next reading of an analysis with another strategy, priors or costs. */
+/**
+ * Recomputes the next reading of an analysis with another strategy, priors, costs or excluded checks
+ * (`options.exclude`; by default the analysis's own, `[]` to lift them).
+ */
 export const nextReading = guard(
-  (analysis: object, strategy?: Strategy, priors?: Priors, costs?: CostModel): Result<NextStep | null> => {
+  (
+    analysis: object,
+    strategy?: Strategy,
+    priors?: Priors,
+    costs?: CostModel,
+    options?: { exclude?: ExcludedCheck[] },
+  ): Result<NextStep | null> => {
     const st = analysis && typeof analysis === "object" ? runStates.get(analysis) : undefined;
     if (!st) return fail("invalid-input", "Pass an analysis returned by analyse() or startRun().");
-    const o = OptionsSchema.safeParse({ strategy, priors, costs });
+    const o = OptionsSchema.safeParse({ strategy, priors, costs, options });
     if (!o.success)
       return fail(
         "invalid-input",
-        "Strategy must be order, split or best; priors and costs are maps of numbers.",
+        "Strategy must be order, split or best; priors and costs are maps of numbers; exclude is a list of { netId, mode }.",
       );
+    const ex = o.data.options?.exclude;
     const p = priors ?? st.priors;
     return ok(
       chooseNext({
@@ -274,6 +337,7 @@ export const nextReading = guard(
         costs: costs ?? st.costs,
         strategy: strategy ?? st.strategy,
         noRollout: st.noRollout,
+        excluded: ex ? excludedSet(st.m, ex) : st.excluded,
       }),
     );
   },

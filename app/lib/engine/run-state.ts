@@ -20,6 +20,8 @@ export type RunState = {
   costs: CostModel;
   strategy: Strategy;
   noRollout?: boolean;
+  /** Excluded checks (net index × 3 + mode index), see next-reading's `excludedSet`. */
+  excluded?: Set<number>;
 };
 
 export const runStates = new WeakMap<object, RunState>();

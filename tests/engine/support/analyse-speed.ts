@@ -5,18 +5,33 @@
  */
 import { OM_5150_MAP } from "../../../seed/maps/om-5150";
 import { simulateBoard } from "../../support/bench-sim";
-import { analyse, type MeterProfile, parseQuantity, type Reading, type Strategy, unitForMode } from "../../../app/lib/engine";
+import {
+  analyse,
+  type MeterProfile,
+  parseQuantity,
+  type Reading,
+  type Strategy,
+  unitForMode,
+} from "../../../app/lib/engine";
 
 const ATTACHED = ["src-charger", "src-battery", "src-button"];
 const METER: MeterProfile = {
   name: "bench DMM",
-  voltage: [{ fullScale: 6, resolution: 0.001, pctOfReading: 0.5, counts: 2 }, { fullScale: 60, resolution: 0.01, pctOfReading: 0.5, counts: 2 }],
-  resistance: [{ fullScale: 600, resolution: 0.1, pctOfReading: 0.8, counts: 3 }, { fullScale: 6e6, resolution: 1000, pctOfReading: 1, counts: 3 }],
+  voltage: [
+    { fullScale: 6, resolution: 0.001, pctOfReading: 0.5, counts: 2 },
+    { fullScale: 60, resolution: 0.01, pctOfReading: 0.5, counts: 2 },
+  ],
+  resistance: [
+    { fullScale: 600, resolution: 0.1, pctOfReading: 0.8, counts: 3 },
+    { fullScale: 6e6, resolution: 1000, pctOfReading: 1, counts: 3 },
+  ],
 };
 const sim = simulateBoard(OM_5150_MAP, ATTACHED, { part: "r-en3" });
 const nets = OM_5150_MAP.nodes.flatMap((n) =>
   n.kind === "rail" || n.kind === "signal"
-    ? (["voltage", "resistance", "diode"] as const).filter((m) => n.expected[m]).map((mode) => ({ id: n.id, mode }))
+    ? (["voltage", "resistance", "diode"] as const)
+        .filter((m) => n.expected[m])
+        .map((mode) => ({ id: n.id, mode }))
     : [],
 );
 function readings(count: number): Reading[] {
@@ -51,7 +66,9 @@ for (const strategy of ["order", "split", "best"] as Strategy[])
       const mean = t.reduce((a, b) => a + b, 0) / t.length;
       return `mean ${mean.toFixed(3)} ms  p95 ${t[Math.floor(t.length * 0.95)].toFixed(3)} ms`;
     };
-    rows.push(`${strategy.padEnd(6)} ${String(n).padStart(2)} readings  same doc: ${time(false)} | reparsed+cacheKey: ${time(true, "om-5150:v1")} | reparsed, no key: ${time(true)}`);
+    rows.push(
+      `${strategy.padEnd(6)} ${String(n).padStart(2)} readings  same doc: ${time(false)} | reparsed+cacheKey: ${time(true, "om-5150:v1")} | reparsed, no key: ${time(true)}`,
+    );
   }
 console.log(`analyse on OM-5150 (${nets.length} net/mode points), ${ITER} calls each after warm-up`);
 for (const r of rows) console.log(r);

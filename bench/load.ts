@@ -1,0 +1,358 @@
+// Mixed load on the production build (issue 8, item 6):
+//
+//   npm run bench:load      (BENCH_SOAK_S seconds, default 300; BENCH_RATE requests/s, default 150;
+//                            RAILWISE_BUILD_DIR picks the build folder, BENCH_PORT the port, default 3481)
+//
+// 50 connections at a fixed offered rate: 70 % walker readings (POST /runs/:id.data, the walker fetcher's
+// action), 10 % editor saves (POST /maps/:id.data, intent=save), 15 % page loads (boards, runs, jobs, a run's
+// walker page) and 5 % insights loads. autocannon's rate limiter hands a connection its quota at the start of
+// each second, so each connection is its own autocannon instance, started 1000/50 ms after the previous one,
+// to spread the load over the second (as bench/walker.ts does). Every connection cycles through the same
+// 20-request mix (14 readings, 2 saves, 3 pages, 1 insights), rotated so the kinds interleave across connections.
+// Latency is measured per request from send to last byte. The figures are void when the achieved rate is below
+// 99 % of the offered one. Server RSS is read from /proc at the start and end of the soak.
+// Data: the demo shop (SEED_DEMO=1) on a fresh SQLite file; the insights bench's million readings live in
+// another shop and file (bench/insights-seed.ts) and are not loaded here.
+// Last line: RESULT walker_p95_ms=<ms> other_p95_max_ms=<ms> achieved_rps=<n> errors=<n> rss_growth_mb=<mb>
+import { type ChildProcess, execSync, spawn } from "node:child_process";
+import { existsSync, readFileSync, rmSync } from "node:fs";
+import { createClient } from "@libsql/client";
+import autocannon from "autocannon";
+
+const BUILD = process.env.RAILWISE_BUILD_DIR ?? "build";
+const PORT = Number(process.env.BENCH_PORT ?? 3481);
+const ORIGIN = `http://127.0.0.1:${PORT}`;
+const CONNECTIONS = 50;
+const RATE = Number(process.env.BENCH_RATE ?? 150);
+const SOAK_S = Number(process.env.BENCH_SOAK_S ?? 300);
+const DB_FILE = `./data/h8-bench-load-${PORT}.db`;
+const BOARD = "demo-board-om5150";
+const PASSWORD = "bench-demo-2026";
+
+type Kind = "reading" | "save" | "page" | "insights";
+const MIX: Kind[] = (
+  [
+    "R",
+    "R",
+    "S",
+    "R",
+    "P",
+    "R",
+    "R",
+    "R",
+    "P",
+    "R",
+    "I",
+    "R",
+    "R",
+    "S",
+    "R",
+    "P",
+    "R",
+    "R",
+    "R",
+    "R",
+  ] as const
+).map((k) => ({ R: "reading", S: "save", P: "page", I: "insights" })[k] as Kind);
+if (MIX.filter((k) => k === "reading").length !== 14 || MIX.filter((k) => k === "page").length !== 3)
+  throw new Error("the request mix must be 14 readings, 2 saves, 3 pages and 1 insights load in 20");
+const PAGES = ["/boards", "/runs", "/jobs"];
+// Nets of the demo OM-5150 map with plausible live readings.
+const READINGS: Array<[string, string]> = [
+  ["vsys", "12.6"],
+  ["v3p3-aon", "3.31"],
+  ["en-5v-stby", "3.28"],
+  ["v5-stby", "5.02"],
+  ["v3p3-stby", "3.30"],
+];
+
+const log = (msg: string) => console.log(msg);
+
+function startServer(): ChildProcess {
+  for (const s of ["", "-wal", "-shm"]) rmSync(`${DB_FILE}${s}`, { force: true });
+  return spawn(process.execPath, ["server.mjs"], {
+    env: {
+      ...process.env,
+      NODE_ENV: "production",
+      PORT: String(PORT),
+      HOST: "127.0.0.1",
+      RAILWISE_BUILD_DIR: BUILD,
+      DATABASE_URL: `file:${DB_FILE}`,
+      SEED_DEMO: "1",
+      MAIL_CAPTURE: "1",
+      SECURE_COOKIES: "0",
+      SIGNIN_MAX_PER_ADDRESS: "100000",
+      SESSION_SECRET: "bench-load-session-secret-0123456789",
+    },
+    stdio: ["ignore", "ignore", "inherit"],
+  });
+}
+
+async function waitForHealth(timeoutMs = 30_000) {
+  const start = Date.now();
+  while (Date.now() - start < timeoutMs) {
+    if ((await fetch(`${ORIGIN}/healthz`).catch(() => null))?.ok) return;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`server did not answer ${ORIGIN}/healthz`);
+}
+
+const rssMb = (pid: number) => {
+  const m = /VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, "utf8"));
+  return m ? Number(m[1]) / 1024 : Number.NaN;
+};
+
+async function signIn(email: string) {
+  const res = await fetch(`${ORIGIN}/login`, {
+    method: "POST",
+    redirect: "manual",
+    headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: ORIGIN },
+    body: new URLSearchParams({ email, password: PASSWORD, redirectTo: "" }),
+  });
+  const cookie = res.headers
+    .getSetCookie()
+    .map((c) => c.split(";")[0])
+    .find((c) => c.startsWith("rw_session="));
+  if (!cookie) throw new Error(`sign-in of ${email} failed: ${res.status}`);
+  return cookie;
+}
+
+async function post(path: string, cookie: string, fields: Record<string, string>) {
+  return fetch(`${ORIGIN}${path}`, {
+    method: "POST",
+    redirect: "manual",
+    headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: ORIGIN, Cookie: cookie },
+    body: new URLSearchParams(fields),
+  });
+}
+
+type Conn = { runId: string; mapId: string; seq: number; revision: number; saves: number; t0: number };
+
+const benchDb = () => createClient({ url: `file:${DB_FILE}` });
+
+function saveBody(c: Conn) {
+  const node = {
+    id: "bench-rail",
+    kind: "rail",
+    name: `BENCH ${c.saves}`,
+    nominalV: 3.3,
+    tolerancePct: 5,
+    expected: { voltage: { nominal: 3.3, tolerancePct: 5 } },
+    probe: { text: "test pad", seconds: 20, needsDisassembly: false },
+  };
+  return new URLSearchParams({
+    intent: "save",
+    revision: String(c.revision),
+    changes: JSON.stringify([{ op: "put-node", node }]),
+  }).toString();
+}
+
+function percentile(sorted: number[], p: number) {
+  if (!sorted.length) return Number.NaN;
+  return sorted[Math.min(sorted.length - 1, Math.ceil(p * sorted.length) - 1)];
+}
+
+function runCannon(opts: autocannon.Options): Promise<autocannon.Result> {
+  return new Promise((resolve, reject) => autocannon(opts, (err, r) => (err ? reject(err) : resolve(r))));
+}
+
+async function main() {
+  if (!existsSync(`${BUILD}/server/index.js`)) {
+    log(`building into ${BUILD} …`);
+    execSync("npx react-router build", {
+      stdio: "inherit",
+      env: { ...process.env, RAILWISE_BUILD_DIR: BUILD },
+    });
+  }
+  const server = startServer();
+  const db = benchDb();
+  try {
+    await waitForHealth();
+    const tech = await signIn("tech@harbor.example");
+    const lead = await signIn("lead@harbor.example");
+    const owner = await signIn("owner@harbor.example");
+    const form = await (
+      await fetch(`${ORIGIN}/runs/new?boardId=${BOARD}`, { headers: { Cookie: tech } })
+    ).text();
+    const versionId = /name="mapVersionId"[^>]*><option value="([^"]+)"/.exec(form)?.[1];
+    if (!versionId) throw new Error("no published OM-5150 map version in the demo data");
+
+    const conns: Conn[] = [];
+    for (let i = 0; i < CONNECTIONS; i++) {
+      const run = await post(`/runs/new?boardId=${BOARD}`, tech, {
+        boardId: BOARD,
+        mapVersionId: versionId,
+        condition: "both",
+        pressButton: "on",
+      });
+      const runId = /\/runs\/([A-Za-z0-9_-]+)$/.exec(run.headers.get("Location") ?? "")?.[1];
+      const map = await post(`/boards/${BOARD}`, lead, { intent: "create-map", name: `Load bench map ${i}` });
+      const mapId = /\/maps\/([A-Za-z0-9_-]+)$/.exec(map.headers.get("Location") ?? "")?.[1];
+      if (!runId || !mapId) throw new Error(`setup failed: run ${run.status}, map ${map.status}`);
+      conns.push({ runId, mapId, seq: 1, revision: 0, saves: 0, t0: 0 });
+    }
+
+    const latencies: Record<Kind, number[]> = { reading: [], save: [], page: [], insights: [] };
+    const statuses = new Map<string, number>();
+    let errors = 0;
+    let done = 0;
+    let measuring = false;
+    const resync = async (c: Conn, kind: Kind) => {
+      // After a refused save or reading, read the current revision / step back, as the editor and walker do.
+      if (kind === "save") {
+        const r = await db.execute({
+          sql: "select draft_revision as r from maps where id = ?",
+          args: [c.mapId],
+        });
+        c.revision = Number(r.rows[0]?.r ?? c.revision);
+      } else {
+        const r = await db.execute({
+          sql: "select coalesce(max(seq), 0) as s from readings where run_id = ?",
+          args: [c.runId],
+        });
+        c.seq = Number(r.rows[0]?.s ?? 0) + 1;
+      }
+    };
+
+    const requestsFor = (c: Conn, offset: number): autocannon.Request[] =>
+      MIX.map((_, j) => MIX[(j + offset) % MIX.length]).map((kind, j) => {
+        const done1 = (status: number) => {
+          const ms = performance.now() - c.t0;
+          done++;
+          if (measuring) {
+            latencies[kind].push(ms);
+            const key = `${kind} ${status}`;
+            statuses.set(key, (statuses.get(key) ?? 0) + 1);
+          }
+          const ok = status >= 200 && status < 300;
+          if (!ok && measuring) errors++;
+          if (kind === "reading") ok ? c.seq++ : void resync(c, kind);
+          if (kind === "save") ok ? c.revision++ : void resync(c, kind);
+        };
+        if (kind === "reading")
+          return {
+            method: "POST",
+            path: `/runs/${c.runId}.data`,
+            headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: ORIGIN, Cookie: tech },
+            setupRequest: (req: autocannon.Request) => {
+              c.t0 = performance.now();
+              const [netId, text] = READINGS[(c.seq - 1) % READINGS.length];
+              req.body = new URLSearchParams({
+                intent: "reading",
+                id: `${c.runId}-${c.seq}-${Math.random().toString(36).slice(2, 10)}`,
+                netId,
+                mode: "voltage",
+                text,
+                expectedSeq: String(c.seq),
+              }).toString();
+              return req;
+            },
+            onResponse: done1,
+          };
+        if (kind === "save")
+          return {
+            method: "POST",
+            path: `/maps/${c.mapId}.data`,
+            headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: ORIGIN, Cookie: lead },
+            setupRequest: (req: autocannon.Request) => {
+              c.t0 = performance.now();
+              c.saves++;
+              req.body = saveBody(c);
+              return req;
+            },
+            onResponse: done1,
+          };
+        const path =
+          kind === "insights"
+            ? "/insights"
+            : j % 4 === 3
+              ? `/runs/${c.runId}`
+              : PAGES[(j + offset) % PAGES.length];
+        return {
+          method: "GET",
+          path,
+          headers: { Cookie: kind === "insights" ? owner : tech },
+          setupRequest: (req: autocannon.Request) => {
+            c.t0 = performance.now();
+            return req;
+          },
+          onResponse: done1,
+        };
+      });
+
+    const phase = (seconds: number, rate: number) =>
+      Promise.all(
+        conns.map(
+          (c, i) =>
+            new Promise<autocannon.Result>((resolve, reject) =>
+              setTimeout(
+                () =>
+                  runCannon({
+                    url: ORIGIN,
+                    connections: 1,
+                    connectionRate: rate / CONNECTIONS,
+                    duration: seconds,
+                    requests: requestsFor(c, i),
+                  }).then(resolve, reject),
+                (i * 1000) / CONNECTIONS,
+              ),
+            ),
+        ),
+      );
+
+    // Warm-up (not measured): JIT, caches, SQLite pages.
+    await phase(3, RATE);
+    await new Promise((r) => setTimeout(r, 500));
+    const rssStart = rssMb(server.pid!);
+    log(
+      `offered ${RATE} requests/s from ${CONNECTIONS} connections for ${SOAK_S} s; server RSS ${rssStart.toFixed(1)} MB`,
+    );
+    measuring = true;
+    done = 0;
+    const started = performance.now();
+    const results = await phase(SOAK_S, RATE);
+    const wall = (performance.now() - started) / 1000;
+    measuring = false;
+    const rssEnd = rssMb(server.pid!);
+    const transportErrors = results.reduce((a, r) => a + r.errors + r.timeouts, 0);
+    errors += transportErrors;
+    const achieved = done / SOAK_S;
+    const valid = achieved >= 0.99 * RATE;
+
+    const p95: Record<Kind, number> = { reading: 0, save: 0, page: 0, insights: 0 };
+    for (const kind of Object.keys(latencies) as Kind[]) {
+      const s = latencies[kind].sort((a, b) => a - b);
+      p95[kind] = percentile(s, 0.95);
+      log(
+        `${kind.padEnd(8)} n=${String(s.length).padStart(6)}  p50 ${percentile(s, 0.5).toFixed(1)} ms  p95 ${p95[kind].toFixed(1)} ms  p99 ${percentile(s, 0.99).toFixed(1)} ms`,
+      );
+    }
+    log(
+      `statuses: ${[...statuses].map(([k, n]) => `${k}×${n}`).join(", ")}; transport errors/timeouts ${transportErrors}`,
+    );
+    log(
+      `throughput: ${achieved.toFixed(1)} requests/s achieved of ${RATE} offered (${wall.toFixed(1)} s wall)`,
+    );
+    log(`server RSS: start ${rssStart.toFixed(1)} MB, end ${rssEnd.toFixed(1)} MB`);
+    if (!valid) log(`VOID: achieved ${achieved.toFixed(1)} < 99 % of the offered ${RATE} requests/s`);
+    const otherMax = Math.max(p95.save, p95.page, p95.insights);
+    const growth = rssEnd - rssStart;
+    log(
+      p95.reading < 50 && otherMax < 200 && errors === 0 && growth < 50
+        ? "targets met: reading p95 < 50 ms, others < 200 ms, zero errors, RSS growth < 50 MB"
+        : "targets NOT met (reading p95 < 50 ms, others < 200 ms, zero errors, RSS growth < 50 MB)",
+    );
+    const fig = (x: number) => (valid ? x.toFixed(1) : "void");
+    console.log(
+      `RESULT walker_p95_ms=${fig(p95.reading)} other_p95_max_ms=${fig(otherMax)} achieved_rps=${achieved.toFixed(1)} errors=${errors} rss_growth_mb=${growth.toFixed(1)}`,
+    );
+  } finally {
+    db.close();
+    server.kill("SIGTERM");
+  }
+}
+
+main().catch((e) => {
+  console.error(e);
+  process.exit(1);
+});
