@@ -253,7 +253,8 @@ test("a photo upload shows its probe marker, and a text file named .png is refus
   const img = page.getByRole("button", { name: /Board photo: click to place/ });
   const box = (await img.boundingBox())!;
   await img.click({ position: { x: box.width * 0.25, y: box.height * 0.75 } });
-  await expect(page.getByText("Marker at 25% across, 75% down.")).toBeVisible();
+  // The marker is saved through the autosave round trip, which is slow on a loaded machine.
+  await expect(page.getByText("Marker at 25% across, 75% down.")).toBeVisible({ timeout: 30_000 });
   await saved(page);
   await page.reload();
   await node(page, "PHOTO_RAIL").click();
