@@ -25,6 +25,12 @@ export const shops = sqliteTable("shops", {
   createdAt: createdAt(),
 });
 
+/** The tenant column of every shop-owned table: required, and removed with its shop. */
+const ownedByShop = () =>
+  text("shop_id")
+    .notNull()
+    .references(() => shops.id, { onDelete: "cascade" });
+
 export const ROLES = ["owner", "lead", "tech", "desk"] as const;
 export type Role = (typeof ROLES)[number];
 
@@ -32,9 +38,7 @@ export const members = sqliteTable(
   "members",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     userId: text("user_id")
       .notNull()
       .references(() => users.id, { onDelete: "cascade" }),
@@ -94,9 +98,7 @@ export const boards = sqliteTable(
   "boards",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     maker: text("maker").notNull(),
     model: text("model").notNull(),
     boardNumber: text("board_number").notNull(),
@@ -115,9 +117,7 @@ export const maps = sqliteTable(
   "maps",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     boardId: text("board_id")
       .notNull()
       .references(() => boards.id, { onDelete: "cascade" }),
@@ -136,9 +136,7 @@ export const mapVersions = sqliteTable(
   "map_versions",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     mapId: text("map_id")
       .notNull()
       .references(() => maps.id, { onDelete: "cascade" }),
@@ -155,9 +153,7 @@ export const customers = sqliteTable(
   "customers",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     name: text("name").notNull(),
     email: text("email"),
     phone: text("phone"),
@@ -183,9 +179,7 @@ export const jobs = sqliteTable(
   "jobs",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     number: integer("number").notNull(),
     customerId: text("customer_id").references(() => customers.id, { onDelete: "set null" }),
     boardId: text("board_id").references(() => boards.id, { onDelete: "set null" }),
@@ -233,9 +227,7 @@ export const runs = sqliteTable(
   "runs",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     boardId: text("board_id")
       .notNull()
       .references(() => boards.id, { onDelete: "cascade" }),
@@ -360,9 +352,7 @@ export const readings = sqliteTable(
   {
     // Client-generated id, so a retried submission is recognised and stored once.
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     runId: text("run_id")
       .notNull()
       .references(() => runs.id, { onDelete: "cascade" }),
@@ -391,9 +381,7 @@ export const findings = sqliteTable(
   "findings",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     runId: text("run_id")
       .notNull()
       .references(() => runs.id, { onDelete: "cascade" }),
@@ -473,9 +461,7 @@ export const uploads = sqliteTable(
   "uploads",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     storageKey: text("storage_key").notNull(),
     contentType: text("content_type").notNull(),
     bytes: integer("bytes").notNull(),
@@ -516,9 +502,7 @@ export const meterProfiles = sqliteTable(
   "meter_profiles",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     name: text("name").notNull(),
     profile: text("profile", { mode: "json" }).$type<Record<string, unknown>>().notNull(),
     isDefault: integer("is_default", { mode: "boolean" }).notNull().default(false),
@@ -555,9 +539,7 @@ export const apiTokens = sqliteTable(
   "api_tokens",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     memberId: text("member_id")
       .notNull()
       .references(() => members.id, { onDelete: "cascade" }),
@@ -579,9 +561,7 @@ export const runNotes = sqliteTable(
   "run_notes",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     runId: text("run_id")
       .notNull()
       .references(() => runs.id, { onDelete: "cascade" }),
@@ -601,9 +581,7 @@ export const notices = sqliteTable(
   "notices",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     userId: text("user_id")
       .notNull()
       .references(() => users.id, { onDelete: "cascade" }),
@@ -622,9 +600,7 @@ export const jobEvents = sqliteTable(
   "job_events",
   {
     id: integer("id").primaryKey({ autoIncrement: true }),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     jobId: text("job_id")
       .notNull()
       .references(() => jobs.id, { onDelete: "cascade" }),
@@ -642,9 +618,7 @@ export const jobPhotos = sqliteTable(
   "job_photos",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     jobId: text("job_id")
       .notNull()
       .references(() => jobs.id, { onDelete: "cascade" }),
@@ -663,9 +637,7 @@ export const quotes = sqliteTable(
   "quotes",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     jobId: text("job_id")
       .notNull()
       .references(() => jobs.id, { onDelete: "cascade" }),
@@ -694,9 +666,7 @@ export const quoteLines = sqliteTable(
   "quote_lines",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     quoteId: text("quote_id")
       .notNull()
       .references(() => quotes.id, { onDelete: "cascade" }),
@@ -714,9 +684,7 @@ export const invoices = sqliteTable(
   "invoices",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     jobId: text("job_id")
       .notNull()
       .references(() => jobs.id, { onDelete: "cascade" }),
@@ -741,9 +709,7 @@ export const payments = sqliteTable(
   "payments",
   {
     id: text("id").primaryKey(),
-    shopId: text("shop_id")
-      .notNull()
-      .references(() => shops.id, { onDelete: "cascade" }),
+    shopId: ownedByShop(),
     invoiceId: text("invoice_id")
       .notNull()
       .references(() => invoices.id, { onDelete: "cascade" }),
