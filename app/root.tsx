@@ -17,12 +17,12 @@ import type { Route } from "./+types/root";
 import { Logo } from "./components/logo";
 import { useNonce } from "./components/nonce";
 import { ToastHost } from "./components/toast-host";
-import { readTheme } from "./server/theme.server";
+import { readTheme } from "./lib/theme";
 import { getToast } from "./server/toast.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { toast, headers } = await getToast(request);
-  return data({ theme: readTheme(request), toast }, { headers });
+  return data({ theme: readTheme(request.headers.get("Cookie")), toast }, { headers });
 }
 
 export const links: Route.LinksFunction = () => [

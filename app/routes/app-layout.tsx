@@ -3,7 +3,7 @@ import { LogoMark } from "~/components/logo";
 import { can, type Permission, ROLE_LABELS } from "~/lib/permissions";
 import { listMemberships, requireMember } from "~/server/auth.server";
 import { countUnreadNotices } from "~/server/runs.server";
-import { readTheme } from "~/server/theme.server";
+import { readTheme, themeCookie } from "~/lib/theme";
 import type { Route } from "./+types/app-layout";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -17,7 +17,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     shop: { id: shop.id, name: shop.name },
     role,
     memberships: memberships.map((m) => ({ shopId: m.shopId, shopName: m.shopName, role: m.role })),
-    theme: readTheme(request),
+    theme: readTheme(request.headers.get("Cookie")),
     unreadNotices,
   };
 }
@@ -136,7 +136,11 @@ function ThemeToggle({ theme }: { theme: keyof typeof NEXT_THEME }) {
       method="post"
       action="/theme"
       onSubmit={() => {
-        document.documentElement.dataset.theme = NEXT_THEME[shown];
+        const next = NEXT_THEME[shown];
+        document.documentElement.dataset.theme = next;
+        // Written here as well as by the action, so a reload before the response lands keeps the choice.
+        // biome-ignore lint/suspicious/noDocumentCookie: a plain display preference cookie, same string the server sets.
+        document.cookie = themeCookie(next);
       }}
     >
       <input type="hidden" name="theme" value={NEXT_THEME[shown]} />

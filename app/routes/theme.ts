@@ -1,6 +1,6 @@
 import { data } from "react-router";
 import { assertSameOrigin } from "~/server/origin.server";
-import { THEMES, type Theme, themeCookie } from "~/server/theme.server";
+import { THEMES, type Theme, themeCookie } from "~/lib/theme";
 import type { Route } from "./+types/theme";
 
 export async function action({ request }: Route.ActionArgs) {
