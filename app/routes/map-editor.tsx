@@ -9,6 +9,7 @@ import { MAX_MAP_JSON_CHARS, mapFromJson, validateMap, type ValidationIssue } fr
 import { MapChangesSchema } from "~/lib/map-changes";
 import { layoutDocument, withPositions } from "~/lib/map-layout";
 import { audit } from "~/server/audit.server";
+import { can } from "~/lib/permissions";
 import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
 import {
@@ -20,6 +21,7 @@ import {
   replaceDraft,
   saveDraftChanges,
 } from "~/server/maps.server";
+import { addRunNote, getRunEvidence, type RunEvidence } from "~/server/runs.server";
 import { boards } from "~/server/schema.server";
 import type { Route } from "./+types/map-editor";
 
@@ -29,6 +31,10 @@ export const MAX_IMPORT_BYTES = 2_000_000;
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { shop, role } = await requireMember(request, { permission: "view:maps" });
   const map = await getMapForShop(shop.id, params.mapId);
+  // A lead extending the map from a run that ended with no fault found sees that run's readings beside it.
+  const fromRunId = new URL(request.url).searchParams.get("fromRun");
+  const fromRun =
+    fromRunId && can(role, "edit:maps") ? await getRunEvidence(shop.id, fromRunId, map.id) : null;
   const board = await db
     .select({
       id: boards.id,
@@ -50,6 +56,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     doc,
     versions,
     role,
+    fromRun,
   };
 }
 
@@ -63,6 +70,7 @@ const PublishSchema = z.object({
   intent: z.literal("publish"),
   revision: RevisionSchema,
   note: z.string().trim().min(1, "Say what changed in this version.").max(500),
+  fromRun: z.string().max(64).optional(),
 });
 const ImportSchema = z.object({ intent: z.literal("import"), revision: RevisionSchema, json: z.string() });
 const FromVersionSchema = z.object({
@@ -138,11 +146,26 @@ export async function action({ request, params }: Route.ActionArgs) {
         revision: r.revision,
         issues: r.issues,
       });
+    // Close the loop with the run the lead extended the map from: its tech gets a note and a notice.
+    let told = false;
+    if (input.fromRun) {
+      const run = await getRunEvidence(shop.id, input.fromRun, map.id);
+      if (run.ok) {
+        await addRunNote({
+          shopId: shop.id,
+          userId: user.id,
+          runId: run.evidence.runId,
+          kind: "lead-note",
+          text: `The map was extended after this run and published as version ${r.number}: ${input.note}`,
+        });
+        told = true;
+      }
+    }
     return data({
       ok: true as const,
       revision: r.revision,
       published: r.number,
-      message: `Published version ${r.number}.`,
+      message: `Published version ${r.number}.${told ? " The run's technician was told." : ""}`,
     });
   }
 
@@ -203,7 +226,8 @@ export function shouldRevalidate({
 }
 
 export default function MapEditorRoute({ loaderData }: Route.ComponentProps) {
-  const { map, board, doc, versions } = loaderData;
+  const { map, board, doc, versions, fromRun } = loaderData;
+  const evidence = fromRun?.ok ? fromRun.evidence : null;
   const { can } = useMember();
   const canEdit = can("edit:maps");
   const [revision, setRevision] = useState(map.revision);
@@ -236,13 +260,19 @@ export default function MapEditorRoute({ loaderData }: Route.ComponentProps) {
           Export draft JSON
         </a>
       </div>
+      {fromRun && !fromRun.ok ? (
+        <p role="alert" className="card mb-4 border-l-4 border-l-bad text-sm">
+          {fromRun.message} The draft is shown without a run beside it.
+        </p>
+      ) : null}
+      {evidence && canEdit ? <RunEvidencePanel evidence={evidence} /> : null}
       <MapEditor
         mapId={map.id}
         doc={doc}
         revision={map.revision}
         canEdit={canEdit}
         onRevision={onRevision}
-        toolbarExtra={canEdit ? (s) => <PublishForm mapId={map.id} {...s} /> : undefined}
+        toolbarExtra={canEdit ? (s) => <PublishForm mapId={map.id} fromRun={evidence} {...s} /> : undefined}
       />
       <div className="mt-6 grid gap-6 lg:grid-cols-2">
         <Versions mapId={map.id} versions={versions} revision={revision} canEdit={canEdit} />
@@ -259,11 +289,13 @@ function PublishForm({
   revision,
   saved,
   errors,
+  fromRun,
 }: {
   mapId: string;
   revision: number;
   saved: boolean;
   errors: number;
+  fromRun: RunEvidence | null;
 }) {
   const fetcher = useFetcher<ActionReply>();
   const reason = errors
@@ -275,6 +307,7 @@ function PublishForm({
     <fetcher.Form method="post" action={`/maps/${mapId}`} className="flex flex-wrap items-center gap-2">
       <input type="hidden" name="intent" value="publish" />
       <input type="hidden" name="revision" value={revision} />
+      {fromRun ? <input type="hidden" name="fromRun" value={fromRun.runId} /> : null}
       <label htmlFor="publish-note" className="sr-only">
         Change note
       </label>
@@ -283,6 +316,11 @@ function PublishForm({
         name="note"
         className="field-input w-64 py-1"
         placeholder="Change note, e.g. added the 5 V stage"
+        defaultValue={
+          fromRun
+            ? `Extended after a no-fault run on ${fromRun.boardNumber} (v${fromRun.versionNumber})`
+            : undefined
+        }
         required
         maxLength={500}
       />
@@ -304,6 +342,53 @@ function PublishForm({
         </span>
       ) : null}
     </fetcher.Form>
+  );
+}
+
+const MODE_SHORT = { voltage: "V", resistance: "Ω to ground", diode: "diode" } as const;
+
+/** The run a lead is extending the map from: what was measured and what the tech wrote. */
+function RunEvidencePanel({ evidence }: { evidence: RunEvidence }) {
+  return (
+    <section className="card mb-4 border-l-4 border-l-info" aria-labelledby="from-run-title">
+      <h2 id="from-run-title" className="font-semibold">
+        Extending from a run on {evidence.boardNumber} (map v{evidence.versionNumber}, {evidence.techName})
+      </h2>
+      <p className="mt-1 text-sm">
+        {evidence.noFaultFound
+          ? "Every suspect in that version was cleared, so the fault lies outside what the map covers. These readings were all taken on the board; add the nets, parts or checks that would have caught it, then publish."
+          : (evidence.findingMessage ?? "The run has no finding yet; its readings so far are below.")}
+      </p>
+      <div className="mt-3 grid gap-4 md:grid-cols-2">
+        <div>
+          <h3 className="text-sm font-medium">Readings ({evidence.readings.length})</h3>
+          <ol className="mt-1 max-h-48 overflow-auto text-sm" data-testid="run-evidence">
+            {evidence.readings.map((r) => (
+              <li key={r.id} className="font-mono">
+                #{r.seq} {r.netName} ({MODE_SHORT[r.mode]}): {r.valueText} · {r.verdict}
+              </li>
+            ))}
+          </ol>
+        </div>
+        <div>
+          <h3 className="text-sm font-medium">What the technician wrote</h3>
+          {evidence.notes.length ? (
+            <ul className="mt-1 text-sm">
+              {evidence.notes.map((n) => (
+                <li key={n.id}>
+                  {n.kind === "help" ? "Asked for help" : "Note"} · {n.author}: {n.text}
+                </li>
+              ))}
+            </ul>
+          ) : (
+            <p className="mt-1 text-sm text-muted">No notes on the run.</p>
+          )}
+          <Link className="link mt-2 inline-block text-sm" to={`/runs/${evidence.runId}`}>
+            Open the run
+          </Link>
+        </div>
+      </div>
+    </section>
   );
 }
 

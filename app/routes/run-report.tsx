@@ -170,8 +170,15 @@ export default function RunReportRoute({ loaderData }: Route.ComponentProps) {
           </h2>
           <ul className="mt-1 text-sm">
             {view.notes.map((n) => (
-              <li key={n.id}>
+              <li key={n.id} className="break-inside-avoid">
                 {n.author}: {n.text}
+                {n.photoId ? (
+                  <img
+                    src={`/uploads/${n.photoId}`}
+                    alt={`Attached by ${n.author}: ${n.text.slice(0, 80)}`}
+                    className="mt-1 max-h-48 rounded border border-line"
+                  />
+                ) : null}
               </li>
             ))}
           </ul>

@@ -21,7 +21,7 @@ import {
   STRATEGY_LABELS,
   VERDICT_TONE,
 } from "~/lib/walker";
-import { notFound, requireMember } from "~/server/auth.server";
+import { forbidden, notFound, requireMember } from "~/server/auth.server";
 import { appUrl, sendEmail } from "~/server/email.server";
 import {
   addRunNote,
@@ -33,6 +33,7 @@ import {
   recordOutcome,
   saveReading,
 } from "~/server/runs.server";
+import { type CheckedPhoto, checkPhoto, readFormWithPhoto } from "~/server/photos.server";
 import { redirectWithToast } from "~/server/toast.server";
 import type { Route } from "./+types/run";
 
@@ -46,6 +47,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     view,
     canWrite: can(role, "run:diagnosis"),
     canHelp: can(role, "help:runs"),
+    canExtendMap: can(role, "edit:maps"),
     conditionLabel: CONDITION_LABELS[view.run.condition],
   };
 }
@@ -117,10 +119,24 @@ type ActionResult =
     };
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const formData = await request.formData();
+  // The member check reads only the session cookie, so the body (possibly a photo) is read after it.
+  const { shop, user, role } = await requireMember(request);
+  const read = await readFormWithPhoto(request, "photo");
+  if (!read.ok)
+    return data<ActionResult>(
+      {
+        ok: false,
+        intent: "note",
+        status: read.status,
+        message: read.message,
+        fieldErrors: { photo: [read.message] },
+      },
+      { status: read.status },
+    );
+  const formData = read.formData;
   const intent = String(formData.get("intent") ?? "");
   const lead = intent === "lead-note" || intent === "lead-step";
-  const { shop, user } = await requireMember(request, { permission: lead ? "help:runs" : "run:diagnosis" });
+  if (!can(role, lead ? "help:runs" : "run:diagnosis")) forbidden();
   const submission = parseWithZod(formData, { schema: ActionSchema });
   if (submission.status !== "success") {
     const fieldErrors = (submission.error ?? {}) as Record<string, string[]>;
@@ -158,7 +174,20 @@ export async function action({ request, params }: Route.ActionArgs) {
       }
       case "note":
       case "lead-note":
-      case "lead-step":
+      case "lead-step": {
+        const file = v.intent === "note" ? formData.get("photo") : null;
+        let photo: CheckedPhoto | null = null;
+        if (file instanceof File && file.size > 0) {
+          const checked = await checkPhoto(file);
+          if (!checked.ok) {
+            const message = `${checked.message} Nothing was saved.`;
+            return data<ActionResult>(
+              { ok: false, intent: v.intent, status: 415, message, fieldErrors: { photo: [message] } },
+              { status: 415 },
+            );
+          }
+          photo = checked;
+        }
         await addRunNote({
           shopId: shop.id,
           userId: user.id,
@@ -167,8 +196,10 @@ export async function action({ request, params }: Route.ActionArgs) {
           text: v.text,
           netId: v.intent === "lead-step" ? v.netId : null,
           mode: v.intent === "lead-step" ? v.mode : null,
+          photo,
         });
         return data<ActionResult>({ ok: true, intent: v.intent });
+      }
       case "help": {
         const sent = await escalateRun({
           shopId: shop.id,
@@ -259,7 +290,7 @@ function clientId() {
 }
 
 export default function RunRoute({ loaderData }: Route.ComponentProps) {
-  const { view, canWrite, canHelp, conditionLabel } = loaderData;
+  const { view, canWrite, canHelp, canExtendMap, conditionLabel } = loaderData;
   const fetcher = useFetcher<ActionResult>({ key: `reading-${view.run.id}` });
   const revalidator = useRevalidator();
   const navigation = useNavigation();
@@ -511,7 +542,7 @@ export default function RunRoute({ loaderData }: Route.ComponentProps) {
               onCancelCorrection={correcting ? () => setCorrecting(null) : undefined}
             />
           ) : view.finding ? (
-            <FindingCard view={view} canWrite={canWrite} />
+            <FindingCard view={view} canWrite={canWrite} canExtendMap={canExtendMap} />
           ) : (
             <div className="card">
               <h2 className="text-lg font-semibold">No further check</h2>
@@ -769,7 +800,15 @@ function Contradictions({ items }: { items: RunView["contradictions"] }) {
   );
 }
 
-function FindingCard({ view, canWrite }: { view: RunView; canWrite: boolean }) {
+function FindingCard({
+  view,
+  canWrite,
+  canExtendMap,
+}: {
+  view: RunView;
+  canWrite: boolean;
+  canExtendMap: boolean;
+}) {
   const f = view.finding!;
   const fetcher = useFetcher<ActionResult>();
   const errors = fetcher.data && !fetcher.data.ok ? fetcher.data : null;
@@ -804,11 +843,25 @@ function FindingCard({ view, canWrite }: { view: RunView; canWrite: boolean }) {
           </ul>
         </div>
       ) : null}
-      {nff ? (
+      {nff && !canExtendMap ? (
         <p className="text-sm">
           Every suspect in this map was cleared. The fault lies outside what the map covers: ask a lead for
           help below so the map can be extended from this run.
         </p>
+      ) : null}
+      {nff && canExtendMap && view.version.mapId ? (
+        <div className="flex flex-wrap items-center gap-3">
+          <p className="flex-1 text-sm">
+            Every suspect in this map was cleared, so the fault lies outside what the map covers. Open the
+            map's draft with this run's readings beside it to add what is missing.
+          </p>
+          <Link
+            className="btn btn-primary min-h-12"
+            to={`/maps/${view.version.mapId}?fromRun=${view.run.id}`}
+          >
+            Extend the map from this run
+          </Link>
+        </div>
       ) : null}
       {!nff && f.part ? (
         <div>
@@ -920,12 +973,14 @@ function NoteForm({
   children,
   submitLabel,
   primary,
+  withPhoto,
 }: {
   intent: "note" | "help" | "lead-note" | "lead-step";
   runId: string;
   children: React.ReactNode;
   submitLabel: string;
   primary?: boolean;
+  withPhoto?: boolean;
 }) {
   const fetcher = useFetcher<ActionResult>({ key: `${intent}-${runId}` });
   const ref = useRef<HTMLFormElement>(null);
@@ -934,16 +989,39 @@ function NoteForm({
     if (done) ref.current?.reset();
   }, [done]);
   return (
-    <fetcher.Form method="post" ref={ref} className="flex flex-col gap-2">
+    <fetcher.Form
+      method="post"
+      ref={ref}
+      className="flex flex-col gap-2"
+      encType={withPhoto ? "multipart/form-data" : undefined}
+    >
       <input type="hidden" name="intent" value={intent} />
       {children}
-      {fetcher.data && !fetcher.data.ok ? <p className="text-sm text-bad">{fetcher.data.message}</p> : null}
+      {withPhoto ? (
+        <>
+          <label htmlFor={`${intent}-photo`} className="text-sm">
+            Photo <span className="text-muted">(optional; JPEG, PNG or WebP up to 8 MB)</span>
+          </label>
+          <input
+            id={`${intent}-photo`}
+            name="photo"
+            type="file"
+            accept="image/jpeg,image/png,image/webp"
+            className="field-input"
+          />
+        </>
+      ) : null}
+      {fetcher.data && !fetcher.data.ok ? (
+        <p role="alert" className="text-sm text-bad">
+          {fetcher.data.message}
+        </p>
+      ) : null}
       <button
         type="submit"
         className={`btn min-h-12 self-start ${primary ? "btn-primary" : ""}`}
         disabled={fetcher.state !== "idle"}
       >
-        {submitLabel}
+        {fetcher.state === "submitting" && withPhoto ? "Saving…" : submitLabel}
       </button>
     </fetcher.Form>
   );
@@ -978,6 +1056,21 @@ function Notes({ view, canWrite, canHelp }: { view: RunView; canWrite: boolean; 
               {n.kind === "lead-step" ? (
                 <span className="text-muted"> {n.done ? "(done)" : "(next on screen)"}</span>
               ) : null}
+              {n.photoId ? (
+                <a
+                  href={`/uploads/${n.photoId}`}
+                  target="_blank"
+                  rel="noreferrer"
+                  className="mt-2 block w-fit"
+                >
+                  <img
+                    src={`/uploads/${n.photoId}`}
+                    alt={`Attached by ${n.author}: ${n.text.slice(0, 80)}`}
+                    className="max-h-40 rounded border border-line"
+                    loading="lazy"
+                  />
+                </a>
+              ) : null}
             </li>
           ))}
         </ul>
@@ -986,7 +1079,7 @@ function Notes({ view, canWrite, canHelp }: { view: RunView; canWrite: boolean; 
       )}
       {canWrite && open ? (
         <div className="grid gap-3 md:grid-cols-2">
-          <NoteForm intent="note" runId={view.run.id} submitLabel="Save note">
+          <NoteForm intent="note" runId={view.run.id} submitLabel="Save note" withPhoto>
             <label htmlFor="note-text" className="text-sm font-medium">
               Add a note
             </label>

@@ -57,10 +57,12 @@ export async function requireMember(request: Request, options: { permission?: Pe
   }
   if (!membership) throw new Response("You are not a member of any shop.", { status: 403 });
   const role = membership.member.role as Role;
-  if (options.permission && !can(role, options.permission)) {
-    throw new Response("Your role in this shop does not allow this.", { status: 403 });
-  }
+  if (options.permission && !can(role, options.permission)) forbidden();
   return { user, session, shop: membership.shop, member: membership.member, role };
+}
+
+export function forbidden(): never {
+  throw new Response("Your role in this shop does not allow this.", { status: 403 });
 }
 
 /** 404 for a record that is missing or belongs to another shop: never tell the two apart. */

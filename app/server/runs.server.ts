@@ -30,6 +30,7 @@ import {
 import { db } from "./db.server";
 import { getFindingPriors } from "./priors.server";
 import { newId } from "./ids.server";
+import { type CheckedPhoto, putPhoto } from "./photos.server";
 import {
   boards,
   findings,
@@ -42,6 +43,7 @@ import {
   readings,
   runNotes,
   runs,
+  uploads,
   users,
 } from "./schema.server";
 
@@ -333,6 +335,8 @@ async function analyseRun(shopId: string, run: RunRow, doc: MapDocument, rows: R
       priors,
       cacheKey: run.mapVersionId,
       exclude,
+      // At the bench a part is named only on a reading that shows something wrong (see AnalyseOptions).
+      confirm: true,
     });
     if (!a.ok) throw new RunError(400, a.error.message);
     analysis = a.value;
@@ -450,7 +454,7 @@ export async function getRunView(shopId: string, runId: string) {
       .where(and(eq(boards.id, run.boardId), eq(boards.shopId, shopId)))
       .get(),
     db
-      .select({ number: mapVersions.number, mapName: maps.name })
+      .select({ number: mapVersions.number, mapId: maps.id, mapName: maps.name })
       .from(mapVersions)
       .innerJoin(maps, eq(maps.id, mapVersions.mapId))
       .where(eq(mapVersions.id, run.mapVersionId))
@@ -524,7 +528,12 @@ export async function getRunView(shopId: string, runId: string) {
         }
       : null,
     job: job ?? null,
-    version: { id: run.mapVersionId, number: version?.number ?? 0, mapName: version?.mapName ?? "" },
+    version: {
+      id: run.mapVersionId,
+      number: version?.number ?? 0,
+      mapId: version?.mapId ?? "",
+      mapName: version?.mapName ?? "",
+    },
     nextSeq: (rows.at(-1)?.seq ?? 0) + 1,
     readings: readingViews,
     lastReading: readingViews.filter((r) => r.round === run.round).at(-1) ?? null,
@@ -571,6 +580,7 @@ export async function getRunView(shopId: string, runId: string) {
       netId: n.netId,
       mode: n.mode,
       done: !!n.doneReadingId,
+      photoId: n.uploadId,
       author: names.get(n.authorId) ?? "",
       at: n.createdAt.getTime(),
     })),
@@ -914,9 +924,12 @@ export async function addRunNote(input: {
   text: string;
   netId?: string | null;
   mode?: Mode | null;
+  /** Already checked by `checkPhoto`; stored only once the run is known to be this shop's. */
+  photo?: CheckedPhoto | null;
 }) {
   const run = await getRunRow(input.shopId, input.runId);
   if (!run) throw new RunError(404, "That run was not found in your shop.");
+  if (input.photo && input.kind !== "note") throw new RunError(400, "Photos go with a note.");
   if (input.kind === "lead-step") {
     const doc = (await getVersionDoc(input.shopId, run.mapVersionId))!;
     const node = doc.nodes.find((n) => n.id === input.netId);
@@ -925,7 +938,16 @@ export async function addRunNote(input: {
     if (!input.mode) throw new RunError(400, "Pick how to measure it.");
   }
   const id = newId();
-  await db.insert(runNotes).values({
+  const upload = input.photo
+    ? await putPhoto({
+        shopId: input.shopId,
+        actorId: input.userId,
+        keyPrefix: `runs/${run.id}`,
+        purpose: `run-note:${run.id}`,
+        photo: input.photo,
+      })
+    : null;
+  const note = db.insert(runNotes).values({
     id,
     shopId: input.shopId,
     runId: run.id,
@@ -934,7 +956,11 @@ export async function addRunNote(input: {
     text: input.text,
     netId: input.kind === "lead-step" ? input.netId : null,
     mode: input.kind === "lead-step" ? input.mode : null,
+    uploadId: upload?.id ?? null,
   });
+  // The note and its photo's row land together: a note never points at a photo that was not recorded.
+  if (upload) await db.batch([db.insert(uploads).values(upload), note]);
+  else await note;
   if (input.kind !== "note" && run.techId !== input.userId)
     await db.insert(notices).values({
       id: newId(),
@@ -1060,4 +1086,62 @@ export function listRuns(shopId: string, opts: { limit?: number; boardId?: strin
     .orderBy(desc(runs.startedAt))
     .limit(opts.limit ?? 50)
     .all();
+}
+
+export type RunEvidence = {
+  runId: string;
+  boardNumber: string;
+  versionNumber: number;
+  techName: string;
+  noFaultFound: boolean;
+  findingMessage: string | null;
+  readings: Array<{
+    id: string;
+    seq: number;
+    netName: string;
+    mode: Mode;
+    valueText: string;
+    verdict: string;
+  }>;
+  notes: Array<{ id: string; kind: string; author: string; text: string }>;
+};
+
+/**
+ * What a lead needs beside the editor when extending a map from a run: the readings the tech took (current
+ * ones, corrections applied) and what the tech wrote. Refused when the run used another map.
+ */
+export async function getRunEvidence(
+  shopId: string,
+  runId: string,
+  mapId: string,
+): Promise<{ ok: true; evidence: RunEvidence } | { ok: false; message: string }> {
+  const view = await getRunView(shopId, runId);
+  if (!view) return { ok: false, message: "That run was not found in your shop." };
+  if (view.version.mapId !== mapId)
+    return { ok: false, message: `That run used another map (${view.version.mapName}).` };
+  const replaced = new Set(view.readings.map((r) => r.replacesId).filter(Boolean));
+  return {
+    ok: true,
+    evidence: {
+      runId: view.run.id,
+      boardNumber: view.board?.boardNumber ?? "",
+      versionNumber: view.version.number,
+      techName: view.run.techName,
+      noFaultFound: view.finding?.kind === "no-fault-found",
+      findingMessage: view.finding?.message ?? null,
+      readings: view.readings
+        .filter((r) => !replaced.has(r.id))
+        .map((r) => ({
+          id: r.id,
+          seq: r.seq,
+          netName: r.netName,
+          mode: r.mode,
+          valueText: r.valueText,
+          verdict: r.verdict,
+        })),
+      notes: view.notes
+        .filter((n) => n.kind === "note" || n.kind === "help")
+        .map((n) => ({ id: n.id, kind: n.kind, author: n.author, text: n.text })),
+    },
+  };
 }

@@ -555,7 +555,7 @@ export const apiTokens = sqliteTable(
   (t) => [index("api_tokens_member").on(t.memberId)],
 );
 
-// Notes on a run: the tech's notes and requests for help, and a lead's notes or extra checks
+// Notes on a run: the tech's notes (with an optional photo) and requests for help, and a lead's notes or extra checks
 // (net + mode) that the walker shows before the engine's next reading until the tech takes them.
 export const runNotes = sqliteTable(
   "run_notes",
@@ -571,6 +571,8 @@ export const runNotes = sqliteTable(
     netId: text("net_id"),
     mode: text("mode", { enum: ["voltage", "resistance", "diode"] }),
     doneReadingId: text("done_reading_id"),
+    // A photo of what the tech sees (a burnt part, corrosion, the meter's display), shown with the note.
+    uploadId: text("upload_id").references(() => uploads.id, { onDelete: "set null" }),
     createdAt: createdAt(),
   },
   (t) => [index("run_notes_run").on(t.runId, t.createdAt)],

@@ -7,6 +7,11 @@ import { DEMO, signIn, waitForEmail } from "./support";
 // The bench is simulated: every net the walker asks for reads its true value under the injected fault
 // (present → nominal, missing → 0 V, resistance mid-window), computed from the map apart from the engine.
 const ATTACHED = ["src-charger", "src-battery", "src-button"];
+// A 1×1 PNG (the PNG signature 89 50 4E 47 0D 0A 1A 0A, ISO/IEC 15948 §5.2, then IHDR, IDAT, IEND).
+const PNG = Buffer.from(
+  "iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR42mP8z8BQDwAEhQGAhKmMIQAAAABJRU5ErkJggg==",
+  "base64",
+);
 const BOARD = "demo-board-om5150";
 const NAME_TO_ID = new Map(
   OM_5150_MAP.nodes.filter((n) => n.kind === "rail" || n.kind === "signal").map((n) => [n.name, n.id]),
@@ -195,6 +200,61 @@ test.describe("bench walker", () => {
     // The tech's page was never reloaded: it polls and shows the lead's check as the next step.
     await expect(page.locator("#check-title")).toHaveText("BATT_PACK", { timeout: 15_000 });
     await expect(page.getByTestId("why")).toContainText("Check the pack voltage first");
+    await lead.close();
+  });
+
+  test("a note can carry a photo, shown with the note and in the report", async ({ page }) => {
+    await signIn(page, DEMO.tech);
+    const runId = await startRun(page);
+    await page.getByLabel("Add a note").fill("C7 near the charger looks burnt");
+    await page.getByLabel(/^Photo/).setInputFiles({ name: "c7.png", mimeType: "image/png", buffer: PNG });
+    await page.getByRole("button", { name: "Save note" }).click();
+    const photo = page.getByTestId("notes").getByRole("img", { name: /C7 near the charger looks burnt/ });
+    await expect(photo).toBeVisible();
+    // The browser decoded the stored bytes: a real image of the uploaded size, not a broken link.
+    await expect.poll(() => photo.evaluate((img: HTMLImageElement) => img.naturalWidth)).toBe(1);
+    // A file that is not a photo is refused with a message, and the note text stays to try again.
+    await page.getByLabel("Add a note").fill("see the attached board file");
+    await page
+      .getByLabel(/^Photo/)
+      .setInputFiles({
+        name: "board.png",
+        mimeType: "image/png",
+        buffer: Buffer.from("not an image at all"),
+      });
+    await page.getByRole("button", { name: "Save note" }).click();
+    await expect(
+      page.getByRole("alert").filter({ hasText: "is not a PNG, JPEG or WebP photo" }),
+    ).toBeVisible();
+    await expect(page.getByLabel("Add a note")).toHaveValue("see the attached board file");
+    await expect(page.getByTestId("notes")).not.toContainText("see the attached board file");
+    await page.goto(`/runs/${runId}/report`);
+    await expect(page.getByRole("img", { name: /C7 near the charger looks burnt/ })).toBeVisible();
+  });
+
+  test("a run with no fault in the map ends so, and a lead extends the map from it", async ({
+    page,
+    browser,
+  }) => {
+    await signIn(page, DEMO.tech);
+    const runId = await startRun(page);
+    // Every net reads as it should: the fault lies outside what the map covers.
+    await walk(page, simulateBoard(OM_5150_MAP, ATTACHED, { part: "not-on-this-map" }));
+    await expect(page.getByRole("heading", { name: "No fault found in this map" })).toBeVisible();
+    const taken = await readingsCount(page);
+    await page.getByLabel(/Ask a lead/).fill("Every rail is fine but it still won't show a picture");
+    await page.getByRole("button", { name: "Ask for help" }).click();
+    await expect(page.getByTestId("notes")).toContainText("still won't show a picture");
+
+    const lead = await browser.newPage();
+    await signIn(lead, DEMO.lead);
+    await lead.goto(`/runs/${runId}`);
+    await lead.getByRole("link", { name: "Extend the map from this run" }).click();
+    await expect(lead).toHaveURL(new RegExp(`/maps/demo-map-om5150\\?fromRun=${runId}$`));
+    await expect(lead.getByRole("heading", { name: /Extending from a run on/ })).toBeVisible();
+    await expect(lead.getByTestId("run-evidence").getByRole("listitem")).toHaveCount(taken);
+    await expect(lead.getByText("still won't show a picture")).toBeVisible();
+    await expect(lead.getByLabel("Change note")).toHaveValue(/Extended after a no-fault run/);
     await lead.close();
   });
 

@@ -1,10 +1,12 @@
 import { eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { OM_5150_MAP } from "../../seed/maps/om-5150";
+import * as mapEditor from "~/routes/map-editor";
 import { db } from "~/server/db.server";
 import { findings, notices, outbox, readings, runs } from "~/server/schema.server";
 import { simulateBoard } from "../support/bench-sim";
 import { createShopWithRoles } from "../support/fixtures";
+import { call, formRequest, getRequest } from "../support/requests";
 import { type Loaded, loadRun, postRun, publishDemoMap, readingId, startRun } from "../support/runs";
 
 const BOTH = ["src-charger", "src-battery", "src-button"];
@@ -423,5 +425,71 @@ describe("help and lead steps", () => {
     });
     const next = await view(runId);
     expect(next.step.leadStepId).toBeNull();
+  });
+});
+
+describe("extending the map from a no-fault run", () => {
+  // A fault outside the map: every net reads as it should, so every suspect is cleared.
+  const healthy = simulateBoard(OM_5150_MAP, BOTH, { part: "not-on-this-map" });
+
+  async function editorFor(cookie: string, mapId: string, runId: string) {
+    const res = await call(mapEditor.loader, {
+      request: getRequest(`/maps/${mapId}?fromRun=${runId}`, cookie),
+      params: { mapId },
+    });
+    expect(res.status).toBe(200);
+    return (res.data as Loaded).fromRun;
+  }
+
+  it("opens the map's draft with the run's readings and notes, for leads only", async () => {
+    const { mapId, versionId: v } = await publishDemoMap(shop.shopId, shop.boardId);
+    const runId = await startRun(shop.cookies.tech, { boardId: shop.boardId, mapVersionId: v });
+    await postRun(shop.cookies.tech, runId, { intent: "note", text: "Fan spins, no picture" });
+    const end = await walkToFinding(runId, healthy);
+    expect(end.finding.kind).toBe("no-fault-found");
+    const taken = await rowsOf(runId);
+    expect(taken.length).toBeGreaterThan(3);
+
+    const fromRun = await editorFor(shop.cookies.lead, mapId, runId);
+    expect(fromRun.ok).toBe(true);
+    expect(fromRun.evidence.noFaultFound).toBe(true);
+    expect(fromRun.evidence.boardNumber).toBe("FX-100");
+    expect(fromRun.evidence.readings.map((r: { id: string }) => r.id).sort()).toEqual(
+      taken.map((r) => r.id).sort(),
+    );
+    expect(fromRun.evidence.readings.every((r: { verdict: string }) => r.verdict === "in range")).toBe(true);
+    expect(fromRun.evidence.notes.map((n: { text: string }) => n.text)).toContain("Fan spins, no picture");
+
+    // A tech can read the map but is not offered the run beside the editor.
+    expect(await editorFor(shop.cookies.tech, mapId, runId)).toBeNull();
+    // Another map of the same shop, or another shop's run, is refused with a message.
+    const other = await publishDemoMap(shop.shopId, shop.boardId);
+    expect((await editorFor(shop.cookies.lead, other.mapId, runId)).message).toContain("used another map");
+    const elsewhere = await createShopWithRoles("Elsewhere Bench");
+    const theirs = await publishDemoMap(elsewhere.shopId, elsewhere.boardId);
+    expect((await editorFor(elsewhere.cookies.lead, theirs.mapId, runId)).message).toBe(
+      "That run was not found in your shop.",
+    );
+  });
+
+  it("tells the run's technician when the extended map is published", async () => {
+    const { mapId, versionId: v } = await publishDemoMap(shop.shopId, shop.boardId);
+    const runId = await startRun(shop.cookies.tech, { boardId: shop.boardId, mapVersionId: v });
+    await walkToFinding(runId, healthy);
+    const res = await call(mapEditor.action, {
+      request: formRequest(
+        `/maps/${mapId}`,
+        { intent: "publish", revision: "1", note: "Added the backlight boost stage", fromRun: runId },
+        shop.cookies.lead,
+      ),
+      params: { mapId },
+    });
+    expect(res.status).toBe(200);
+    expect((res.data as Loaded).message).toContain("The run's technician was told");
+    const notes = (await view(runId)).notes;
+    expect(notes.at(-1)).toMatchObject({ kind: "lead-note" });
+    expect(notes.at(-1).text).toContain("published as version 2: Added the backlight boost stage");
+    const told = await db.select().from(notices).where(eq(notices.userId, shop.userIds.tech)).all();
+    expect(told.some((n) => n.runId === runId && n.text.includes("published as version 2"))).toBe(true);
   });
 });

@@ -33,6 +33,7 @@ import {
 import {
   blockedChecks,
   chooseNext,
+  confirmingStep,
   type ExcludedCheck,
   ExcludeSchema,
   excludedSet,
@@ -99,6 +100,13 @@ export type AnalyseOptions = {
    * only excluded checks could still separate the suspects, `next` is null and the analysis is `stuck`.
    */
   exclude?: ExcludedCheck[];
+  /**
+   * Confirm before naming a fault (default false, the plain single-fault search the published examples
+   * assume): with one suspect left while every reading still matches a board with no fault in this map, `next`
+   * is the reading that tells the two apart instead of a finding, so a fault outside the map ends as "no fault
+   * found in this map" and a finding always rests on a reading that shows something wrong. The walker sets it.
+   */
+  confirm?: boolean;
 };
 const AnalyseOptionsSchema = z
   .object({
@@ -108,6 +116,7 @@ const AnalyseOptionsSchema = z
       .union([z.literal("probe-time"), z.literal("uniform"), z.record(z.string(), z.number())])
       .optional(),
     rollout: z.boolean().optional(),
+    confirm: z.boolean().optional(),
     cacheKey: z.string().min(1).max(200).optional(),
     exclude: ExcludeSchema.optional(),
   })
@@ -258,14 +267,20 @@ const healthyPredicts = (s: Scenario, o: Obs): 0 | 1 => (o.kind === "v" ? (s.bas
 /** Fewest readings (kept in order) that still rule out every other candidate. */
 function provingReadings(s: Scenario, obs: Obs[], target: number): string[] {
   const elim: number[][] = obs.map(() => []);
-  const count = new Int32Array(s.candidates.length);
+  // Index C stands for "no fault in this map": a finding also needs a reading that rules that out.
+  const C = s.candidates.length;
+  const count = new Int32Array(C + 1);
   obs.forEach((o, j) => {
-    for (let k = 0; k < s.candidates.length; k++) {
+    for (let k = 0; k < C; k++) {
       if (k === target) continue;
       if (predicts(s, k, o) !== o.value) {
         elim[j].push(k);
         count[k]++;
       }
+    }
+    if (target >= 0 && healthyPredicts(s, o) !== o.value) {
+      elim[j].push(C);
+      count[C]++;
     }
   });
   const keep = obs.map(() => true);
@@ -414,13 +429,19 @@ function analyseCore(
     excluded: state.excluded,
   };
   const next = chooseNext(ctx);
+  // One suspect left is not yet a finding while a board with no fault in this map would read the same:
+  // one more reading either proves the suspect or clears it ("no fault found in this map").
+  const confirm =
+    options?.confirm && !fallback && suspectsIdx.length === 1 && healthyOk
+      ? confirmingStep(ctx, suspectsIdx[0])
+      : null;
   // Only skipped checks could still tell the suspects apart: say so instead of guessing a finding.
   const blocked = next ? [] : blockedChecks(ctx);
   const stuck = blocked.length > 0;
 
   let finding: Finding | null = null;
   let isolated = false;
-  if (!fallback && suspectsIdx.length === 1) {
+  if (!fallback && suspectsIdx.length === 1 && !confirm) {
     isolated = true;
     finding = findingFor(m, s, suspectsIdx[0], obs);
   } else if (!fallback && suspectsIdx.length === 0 && healthyOk) {
@@ -455,7 +476,7 @@ function analyseCore(
     finding,
     contradictions,
     ...(found.omitted ? { contradictionsOmitted: found.omitted } : {}),
-    next: isolated ? null : next,
+    next: isolated ? null : (confirm ?? next),
     stuck,
     ...(stuck ? { stuckMessage: stuckMessage(blocked, suspectsIdx.length) } : {}),
   };

@@ -249,7 +249,7 @@ function explain(ctx: ChooseContext, t: Test, total: number, strategy: Strategy)
     const limit = t.mode === "diode" ? "a diode drop near 0 V" : `below ${formatQuantity(thr, "ohm")}`;
     if (others.length === 1 && others[0].kind === "part") {
       const p = partOf(m, others[0].node);
-      why = `${node.name} is missing while everything feeding ${p.refdes} is present: measure ${t.mode === "diode" ? "the diode drop" : "resistance to ground"} with the board unpowered. ${limit[0].toUpperCase()}${limit.slice(1)} means a short on ${node.name}; otherwise ${p.refdes} has failed.`;
+      why = `Everything feeding ${p.refdes} is present, so either ${p.refdes} or a short on ${node.name} keeps ${node.name} down: measure ${t.mode === "diode" ? "the diode drop" : "resistance to ground"} with the board unpowered. ${limit[0].toUpperCase()}${limit.slice(1)} means a short on ${node.name}; otherwise ${p.refdes} is the suspect.`;
     } else {
       why = `With the board unpowered, ${limit} on ${node.name} means it is shorted; otherwise a short there is ruled out.${strategy === "best" ? ` Separates ${pct} of the remaining likelihood.` : ""}`;
     }
@@ -267,6 +267,51 @@ function explain(ctx: ChooseContext, t: Test, total: number, strategy: Strategy)
     expected: win,
     cost: t.cost,
     separates,
+  };
+}
+
+/**
+ * With one suspect left while every reading still matches a board with no fault in this map, the check that
+ * tells the two apart: the cheapest net the suspect takes down, read live (for a short, its resistance or
+ * diode check first, which proves the short itself). Null when every such check is excluded.
+ */
+export function confirmingStep(ctx: ChooseContext, k: number): NextStep | null {
+  const { m, s } = ctx;
+  const c = s.candidates[k];
+  let t: Test | null = null;
+  if (c.kind === "short") {
+    const mode = shortMode(ctx, c.node, netOf(m, c.node));
+    if (mode) t = { net: c.node, mode, kind: "r", mass: 1, cost: testCost(ctx, c.node, mode) };
+  }
+  if (!t)
+    for (const v of c.missList) {
+      if (!s.baseline[v] || !netOf(m, v).expected.voltage || isExcluded(ctx, v, "voltage")) continue;
+      const cost = testCost(ctx, v, "voltage");
+      if (!t || cost < t.cost || (cost === t.cost && m.orderPos[v] < m.orderPos[t.net]))
+        t = { net: v, mode: "voltage", kind: "v", mass: 1, cost };
+    }
+  if (!t) return null;
+  const node = netOf(m, t.net);
+  const suspect =
+    c.kind === "part" ? `${partOf(m, c.node).refdes} ${partOf(m, c.node).name}` : `a short on ${node.name}`;
+  const outcome =
+    t.kind === "v"
+      ? `If ${node.name} is missing, ${suspect} is the fault; if it is present, the fault lies outside this map.`
+      : `A short there confirms it; otherwise the fault lies outside this map.`;
+  let why = `Only ${suspect} is left, but every reading so far is also what a board with no fault in this map shows. ${outcome}`;
+  const range = node.expected[t.mode];
+  const win = range ? windowOf(range) : null;
+  if (win && t.kind === "v")
+    why += ` Expect ${formatQuantity(win.min, unitForMode(t.mode))}–${formatQuantity(win.max, unitForMode(t.mode))} at ${node.probe.text}.`;
+  return {
+    netId: node.id,
+    netName: node.name,
+    mode: t.mode,
+    why,
+    probe: node.probe,
+    expected: win,
+    cost: t.cost,
+    separates: 0.5,
   };
 }
 

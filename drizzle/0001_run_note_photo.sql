@@ -1,0 +1,1 @@
+ALTER TABLE `run_notes` ADD `upload_id` text REFERENCES uploads(id) ON DELETE set null;
