@@ -1,36 +1,69 @@
 // Production server: Express serving the React Router build. Compression skips server-sent events, which
 // must stream unbuffered; static assets under /assets are fingerprinted and cached for a year.
 // NODE_ENV must be set before React loads (static imports would be hoisted above this line).
+// WEB_CONCURRENCY=N (default 1) runs N worker processes sharing the port, e.g. one per core: they keep no
+// state besides the database and the storage module, like several machines would.
 process.env.NODE_ENV ??= "production";
-const { createRequestHandler } = await import("@react-router/express");
-const { default: compression } = await import("compression");
-const { default: express } = await import("express");
+const { default: cluster } = await import("node:cluster");
+const workers = Math.max(1, Number(process.env.WEB_CONCURRENCY ?? 1) || 1);
+if (workers > 1 && cluster.isPrimary) {
+  // The first worker applies migrations (and seeds the demo when asked) before it listens; the others start
+  // after it, so they find that work done.
+  let stopping = false;
+  const first = cluster.fork();
+  first.once("listening", () => {
+    for (let i = 1; i < workers; i++) cluster.fork();
+  });
+  cluster.on("exit", (worker, code, signal) => {
+    if (stopping) return;
+    console.error(`worker ${worker.process.pid} ended (${signal ?? code}); starting another`);
+    cluster.fork();
+  });
+  const stop = () => {
+    stopping = true;
+    for (const w of Object.values(cluster.workers ?? {})) w?.kill("SIGTERM");
+    process.exit(0);
+  };
+  process.on("SIGTERM", stop);
+  process.on("SIGINT", stop);
+} else {
+  // A worker whose primary is gone has no one to hand it connections: end with it.
+  if (cluster.isWorker) process.on("disconnect", () => process.exit(0));
+  await serve();
+}
 
-const port = Number(process.env.PORT ?? 3000);
-const host = process.env.HOST ?? "0.0.0.0";
+async function serve() {
+  const { createRequestHandler } = await import("@react-router/express");
+  const { default: compression } = await import("compression");
+  const { default: express } = await import("express");
 
-const buildDir = process.env.RAILWISE_BUILD_DIR ?? "build";
-const build = await import(new URL(`./${buildDir}/server/index.js`, import.meta.url).href);
+  const port = Number(process.env.PORT ?? 3000);
+  const host = process.env.HOST ?? "0.0.0.0";
 
-const app = express();
-app.disable("x-powered-by");
-app.set("trust proxy", process.env.TRUST_PROXY === "1");
-app.use(
-  compression({
-    filter: (req, res) => !String(res.getHeader("Content-Type") ?? "").includes("text/event-stream") && compression.filter(req, res),
-  }),
-);
-app.use("/assets", express.static(`${buildDir}/client/assets`, { immutable: true, maxAge: "1y" }));
-app.use(express.static(`${buildDir}/client`, { maxAge: "1h" }));
-app.all(
-  "*",
-  createRequestHandler({
-    build,
-    getLoadContext: (req) => ({ clientAddress: req.ip ?? req.socket.remoteAddress ?? "unknown" }),
-  }),
-);
+  const buildDir = process.env.RAILWISE_BUILD_DIR ?? "build";
+  const build = await import(new URL(`./${buildDir}/server/index.js`, import.meta.url).href);
 
-app.listen(port, host, () => {
-  const shown = host === "0.0.0.0" ? "localhost" : host;
-  console.log(`Railwise is serving on http://${shown}:${port}`);
-});
+  const app = express();
+  app.disable("x-powered-by");
+  app.set("trust proxy", process.env.TRUST_PROXY === "1");
+  app.use(
+    compression({
+      filter: (req, res) => !String(res.getHeader("Content-Type") ?? "").includes("text/event-stream") && compression.filter(req, res),
+    }),
+  );
+  app.use("/assets", express.static(`${buildDir}/client/assets`, { immutable: true, maxAge: "1y" }));
+  app.use(express.static(`${buildDir}/client`, { maxAge: "1h" }));
+  app.all(
+    "*",
+    createRequestHandler({
+      build,
+      getLoadContext: (req) => ({ clientAddress: req.ip ?? req.socket.remoteAddress ?? "unknown" }),
+    }),
+  );
+
+  app.listen(port, host, () => {
+    const shown = host === "0.0.0.0" ? "localhost" : host;
+    if (!cluster.isWorker || cluster.worker?.id === 1)
+      console.log(`Railwise is serving on http://${shown}:${port}${workers > 1 ? ` (${workers} worker processes)` : ""}`);
+  });
+}

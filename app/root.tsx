@@ -4,6 +4,7 @@ import "@fontsource/ibm-plex-sans/600.css";
 import "@fontsource/ibm-plex-mono/400.css";
 import "./styles/app.css";
 import {
+  type ShouldRevalidateFunctionArgs,
   data,
   isRouteErrorResponse,
   Links,
@@ -13,12 +14,18 @@ import {
   ScrollRestoration,
   useRouteLoaderData,
 } from "react-router";
+import { isRunOnlyRevalidation } from "./components/run-revalidation";
 import type { Route } from "./+types/root";
 import { Logo } from "./components/logo";
 import { useNonce } from "./components/nonce";
 import { ToastHost } from "./components/toast-host";
 import { readTheme } from "./lib/theme";
 import { getToast } from "./server/toast.server";
+
+export function shouldRevalidate(args: ShouldRevalidateFunctionArgs) {
+  if (isRunOnlyRevalidation()) return false;
+  return args.defaultShouldRevalidate;
+}
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { toast, headers } = await getToast(request);

@@ -11,13 +11,16 @@
 // 20-request mix (14 readings, 2 saves, 3 pages, 1 insights), rotated so the kinds interleave across connections.
 // Latency is measured per request from send to last byte. The figures are void when the achieved rate is below
 // 99 % of the offered one. Server RSS is read from /proc at the start and end of the soak.
-// Data: the demo shop (SEED_DEMO=1) on a fresh SQLite file; the insights bench's million readings live in
-// another shop and file (bench/insights-seed.ts) and are not loaded here.
+// Data: a copy of the insights bench file (bench/insights-seed.ts: 100,000 runs and 1,000,000 readings in its
+// own shop, seeded once and reused), with the demo shop seeded on top when the server starts (SEED_DEMO=1).
+// Readings, saves and pages go to the demo shop; the insights loads go to the bench shop's lead, so they
+// query the million readings. Insights loads rotate through the hot spots, runs and parts pages.
 // Last line: RESULT walker_p95_ms=<ms> other_p95_max_ms=<ms> achieved_rps=<n> errors=<n> rss_growth_mb=<mb>
 import { type ChildProcess, execSync, spawn } from "node:child_process";
-import { existsSync, readFileSync, rmSync } from "node:fs";
+import { copyFileSync, existsSync, readFileSync, rmSync } from "node:fs";
 import { createClient } from "@libsql/client";
 import autocannon from "autocannon";
+import { hashPassword } from "~/server/password.server";
 
 const BUILD = process.env.RAILWISE_BUILD_DIR ?? "build";
 const PORT = Number(process.env.BENCH_PORT ?? 3481);
@@ -28,6 +31,9 @@ const SOAK_S = Number(process.env.BENCH_SOAK_S ?? 300);
 const DB_FILE = `./data/h8-bench-load-${PORT}.db`;
 const BOARD = "demo-board-om5150";
 const PASSWORD = "bench-demo-2026";
+// The insights bench shop's lead (bench/insights-seed.ts seeds bench-user-0 as its lead).
+const BENCH_LEAD = { id: "bench-user-0", email: "tech0@bench.test" };
+const INSIGHTS_PAGES = ["/insights", "/insights/runs", "/insights/parts", "/insights?board=bench-board-0"];
 
 type Kind = "reading" | "save" | "page" | "insights";
 const MIX: Kind[] = (
@@ -68,8 +74,27 @@ const READINGS: Array<[string, string]> = [
 
 const log = (msg: string) => console.log(msg);
 
-function startServer(): ChildProcess {
+/** The load file starts as a copy of the insights bench file; its lead gets a password to sign in with. */
+async function prepareData() {
+  log("preparing the insights bench data (seeded once, then reused) …");
+  const out = execSync("npx tsx bench/insights-data.ts", {
+    encoding: "utf8",
+    stdio: ["ignore", "pipe", "inherit"],
+  });
+  const source = out.trim().split("\n").at(-1)!;
   for (const s of ["", "-wal", "-shm"]) rmSync(`${DB_FILE}${s}`, { force: true });
+  copyFileSync(source, DB_FILE);
+  const c = createClient({ url: `file:${DB_FILE}` });
+  await c.execute({
+    sql: "update users set password_hash = ? where id = ?",
+    args: [await hashPassword(PASSWORD), BENCH_LEAD.id],
+  });
+  const n = Number((await c.execute("select count(*) as n from readings")).rows[0].n);
+  c.close();
+  log(`load file ${DB_FILE}: ${n.toLocaleString("en")} readings before the demo shop is added`);
+}
+
+function startServer(): ChildProcess {
   return spawn(process.execPath, ["server.mjs"], {
     env: {
       ...process.env,
@@ -164,13 +189,14 @@ async function main() {
       env: { ...process.env, RAILWISE_BUILD_DIR: BUILD },
     });
   }
+  await prepareData();
   const server = startServer();
   const db = benchDb();
   try {
     await waitForHealth();
     const tech = await signIn("tech@harbor.example");
     const lead = await signIn("lead@harbor.example");
-    const owner = await signIn("owner@harbor.example");
+    const analyst = await signIn(BENCH_LEAD.email);
     const form = await (
       await fetch(`${ORIGIN}/runs/new?boardId=${BOARD}`, { headers: { Cookie: tech } })
     ).text();
@@ -264,14 +290,14 @@ async function main() {
           };
         const path =
           kind === "insights"
-            ? "/insights"
+            ? INSIGHTS_PAGES[offset % INSIGHTS_PAGES.length]
             : j % 4 === 3
               ? `/runs/${c.runId}`
               : PAGES[(j + offset) % PAGES.length];
         return {
           method: "GET",
           path,
-          headers: { Cookie: kind === "insights" ? owner : tech },
+          headers: { Cookie: kind === "insights" ? analyst : tech },
           setupRequest: (req: autocannon.Request) => {
             c.t0 = performance.now();
             return req;

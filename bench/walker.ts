@@ -1,10 +1,11 @@
 // Bench walker speed (issue 5, item 8): the production build under 50 simulated technicians.
 //
-//   npm run bench:walker            (RAILWISE_BUILD_DIR picks the build folder, BENCH_PORT the port; default 3451)
+//   npm run bench:walker            (RAILWISE_BUILD_DIR picks the build folder, BENCH_PORT the port; default 3451;
+//                                    WEB_CONCURRENCY the server's worker processes, default 2: one per core)
 //
 // 1. Fixed offered rate: 50 techs, each submitting a reading every 500 ms = 100 readings/s. Each reading is the
 //    run's action (POST /runs/:id.data, as the walker's fetcher sends it) followed by the revalidating data
-//    request (GET /runs/:id.data); its round trip is the time from sending the action to the end of the
+//    request (GET /runs/:id.data?_routes=routes/run, the run's loader only, as the browser asks); its round trip is the time from sending the action to the end of the
 //    revalidation. autocannon's rate limiter hands a connection its quota at the start of each second, so the
 //    50 connections are separate autocannon instances started 20 ms apart to spread the load over the second.
 //    The figures are void when fewer than 99 % of the offered readings were achieved.
@@ -25,6 +26,7 @@ const TECHS = 50;
 const OFFERED_READINGS_PER_S = 100;
 const DURATION_S = Number(process.env.BENCH_SECONDS ?? 10);
 const DB_FILE = `./data/bench-walker-${PORT}.db`;
+const WORKERS = process.env.WEB_CONCURRENCY ?? "2";
 
 // Nets of the demo OM-5150 map with plausible live readings; the walker judges each one.
 const READINGS: Array<[string, string]> = [
@@ -62,6 +64,19 @@ function resync(st: TechState) {
     });
 }
 
+/** A phase that stops mid-request leaves a reading saved whose answer never came: start each phase in step. */
+async function resyncAll(techs: TechState[]) {
+  await new Promise((r) => setTimeout(r, 300));
+  benchDb ??= createClient({ url: `file:${DB_FILE}` });
+  for (const st of techs) {
+    const r = await benchDb.execute({
+      sql: "select coalesce(max(seq), 0) as s from readings where run_id = ?",
+      args: [st.runId],
+    });
+    st.seq = Number(r.rows[0]?.s ?? 0) + 1;
+  }
+}
+
 function log(msg: string) {
   console.log(msg);
 }
@@ -94,6 +109,8 @@ function startServer(): ChildProcess {
       MAIL_CAPTURE: "1",
       SIGNIN_MAX_PER_ADDRESS: "100000",
       SESSION_SECRET: "bench-walker-session-secret-0123456789",
+      // One worker process per core of this 2-core machine (server.mjs); WEB_CONCURRENCY=1 measures one.
+      WEB_CONCURRENCY: WORKERS,
     },
     stdio: ["ignore", "ignore", "inherit"],
   });
@@ -159,16 +176,21 @@ function requestsFor(st: TechState, cookie: string, roundTrips: number[] | null)
           st.saved++;
         } else {
           st.bad++;
+          tally(`POST ${status}`);
           if (status === 409) resync(st);
         }
       },
     },
     {
       method: "GET" as const,
-      path: `/runs/${st.runId}.data`,
+      // What the browser sends after a reading (asserted in tests/e2e/walker.spec.ts): the run's loader only.
+      path: `/runs/${st.runId}.data?_routes=routes%2Frun`,
       headers: { Cookie: cookie },
       onResponse: (status: number) => {
-        if (status !== 200) st.bad++;
+        if (status !== 200) {
+          st.bad++;
+          tally(`GET ${status}`);
+        }
         // The first pair of a connection was built before the socket opened: its start time is not a send time.
         if (roundTrips && st.pairs > 0) roundTrips.push(performance.now() - st.t0);
         st.pairs++;
@@ -185,7 +207,17 @@ function runCannon(opts: autocannon.Options): Promise<Result> {
   });
 }
 
-const failures = (r: Result) => r.errors + r.timeouts + r.non2xx;
+// Non-2xx answers are counted once, by status, in the requests' own handlers; autocannon adds transport
+// errors and timeouts.
+const failures = (r: Result) => r.errors + r.timeouts;
+const statusTally = new Map<string, number>();
+const tally = (key: string) => statusTally.set(key, (statusTally.get(key) ?? 0) + 1);
+const tallyText = (r: Result[]) =>
+  [
+    ...[...statusTally].map(([k, n]) => `${k}: ${n}`),
+    `transport errors: ${r.reduce((a, x) => a + x.errors, 0)}`,
+    `timeouts: ${r.reduce((a, x) => a + x.timeouts, 0)}`,
+  ].join(", ");
 
 async function walkerJsKbGz(cookie: string, runId: string) {
   const html = await (await fetch(`${ORIGIN}/runs/${runId}`, { headers: { Cookie: cookie } })).text();
@@ -253,6 +285,7 @@ async function main() {
     }
 
     // 1. Fixed offered rate.
+    await resyncAll(techs);
     const roundTrips: number[] = [];
     const perConnRate = (2 * OFFERED_READINGS_PER_S) / TECHS; // requests/s: each reading is 2 requests
     const started = performance.now();
@@ -284,8 +317,9 @@ async function main() {
     const p95 = percentile(roundTrips, 0.95);
     const p99 = percentile(roundTrips, 0.99);
     log(
-      `fixed rate: offered ${OFFERED_READINGS_PER_S} readings/s for ${DURATION_S} s (${wall.toFixed(1)} s wall), achieved ${achieved.toFixed(1)} readings/s, ${errorsA} errors`,
+      `fixed rate: offered ${OFFERED_READINGS_PER_S} readings/s for ${DURATION_S} s (${wall.toFixed(1)} s wall), achieved ${achieved.toFixed(1)} readings/s, ${errorsA} errors (${tallyText(results)})`,
     );
+    statusTally.clear();
     log(
       `round trip (action + revalidation), ${roundTrips.length} readings: p50 ${p50.toFixed(1)} ms, p95 ${p95.toFixed(1)} ms, p99 ${p99.toFixed(1)} ms`,
     );
@@ -299,6 +333,7 @@ async function main() {
     );
 
     // 2. Flat out.
+    await resyncAll(techs);
     for (const t of techs) {
       t.saved = 0;
       t.bad = 0;
@@ -313,7 +348,7 @@ async function main() {
     const maxReadings = techs.reduce((a, t) => a + t.saved, 0) / DURATION_S;
     const errorsB = failures(flat) + techs.reduce((a, t) => a + t.bad, 0);
     log(
-      `flat out, ${TECHS} connections: ${maxReadings.toFixed(0)} readings/s (${flat.requests.average.toFixed(0)} requests/s, latency p99 ${flat.latency.p99} ms), ${errorsB} errors`,
+      `flat out, ${TECHS} connections: ${maxReadings.toFixed(0)} readings/s (${flat.requests.average.toFixed(0)} requests/s, latency p99 ${flat.latency.p99} ms), ${errorsB} errors (${tallyText([flat])})`,
     );
 
     console.log(

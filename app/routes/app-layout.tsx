@@ -1,10 +1,23 @@
-import { Form, NavLink, Outlet, useFetcher, useNavigation } from "react-router";
+import {
+  Form,
+  NavLink,
+  Outlet,
+  type ShouldRevalidateFunctionArgs,
+  useFetcher,
+  useNavigation,
+} from "react-router";
 import { LogoMark } from "~/components/logo";
 import { can, type Permission, ROLE_LABELS } from "~/lib/permissions";
 import { listMemberships, requireMember } from "~/server/auth.server";
 import { countUnreadNotices } from "~/server/runs.server";
 import { readTheme, themeCookie } from "~/lib/theme";
+import { isRunOnlyRevalidation } from "~/components/run-revalidation";
 import type { Route } from "./+types/app-layout";
+
+export function shouldRevalidate(args: ShouldRevalidateFunctionArgs) {
+  if (isRunOnlyRevalidation()) return false;
+  return args.defaultShouldRevalidate;
+}
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, shop, role } = await requireMember(request);

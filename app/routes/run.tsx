@@ -10,6 +10,7 @@ import {
   useRevalidator,
 } from "react-router";
 import { z } from "zod";
+import { endRunOnlyRevalidation, revalidateRunOnly } from "~/components/run-revalidation";
 import { can } from "~/lib/permissions";
 import {
   CONDITION_LABELS,
@@ -376,9 +377,12 @@ export default function RunRoute({ loaderData }: Route.ComponentProps) {
     }
     if (revalidator.state === "idle") {
       tries.current += 1;
-      revalidator.revalidate();
+      revalidateRunOnly(revalidator.revalidate);
     }
   }, [staleSeq, view.nextSeq, revalidator]);
+  useEffect(() => {
+    if (revalidator.state === "idle") endRunOnlyRevalidation();
+  }, [revalidator.state]);
 
   // Retry unsaved readings when the connection comes back, and every few seconds meanwhile.
   useEffect(() => {

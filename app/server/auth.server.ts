@@ -1,4 +1,4 @@
-import { and, asc, eq } from "drizzle-orm";
+import { asc, eq } from "drizzle-orm";
 import { redirect } from "react-router";
 import { can, type Permission, type Role } from "~/lib/permissions";
 import { db } from "./db.server";
@@ -37,15 +37,8 @@ export function listMemberships(userId: string) {
  * a role without the permission → 403. The shop comes from the session, so every later query scopes by it.
  */
 export async function requireMember(request: Request, options: { permission?: Permission } = {}) {
-  const { session, user } = await requireUser(request);
-  let membership = session.shopId
-    ? await db
-        .select({ shop: shops, member: members })
-        .from(members)
-        .innerJoin(shops, eq(shops.id, members.shopId))
-        .where(and(eq(members.userId, user.id), eq(members.shopId, session.shopId)))
-        .get()
-    : undefined;
+  const { session, user, membership: current } = await requireUser(request);
+  let membership = current ?? undefined;
   if (!membership) {
     membership = await db
       .select({ shop: shops, member: members })

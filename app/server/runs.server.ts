@@ -266,12 +266,64 @@ export async function createRun(input: {
 type RunRow = typeof runs.$inferSelect;
 type ReadingRow = typeof readings.$inferSelect;
 
-export async function getRunRow(shopId: string, runId: string) {
-  return db
+// The walker's hot path (a reading and the revalidation after it) runs these on every request: prepared
+// once, so the SQL is not rebuilt per call.
+const hot = {
+  run: db
     .select()
     .from(runs)
-    .where(and(eq(runs.id, runId), eq(runs.shopId, shopId)))
-    .get();
+    .where(and(eq(runs.id, sql.placeholder("runId")), eq(runs.shopId, sql.placeholder("shopId"))))
+    .prepare(),
+  readings: db
+    .select()
+    .from(readings)
+    .where(eq(readings.runId, sql.placeholder("runId")))
+    .orderBy(asc(readings.seq))
+    .prepare(),
+  readingById: db
+    .select()
+    .from(readings)
+    .where(eq(readings.id, sql.placeholder("id")))
+    .prepare(),
+  lastReading: db
+    .select({ seq: readings.seq, takenBy: readings.takenBy })
+    .from(readings)
+    .where(eq(readings.runId, sql.placeholder("runId")))
+    .orderBy(desc(readings.seq))
+    .limit(1)
+    .prepare(),
+  notes: db
+    .select()
+    .from(runNotes)
+    .where(eq(runNotes.runId, sql.placeholder("runId")))
+    .orderBy(asc(runNotes.createdAt))
+    .prepare(),
+  findings: db
+    .select()
+    .from(findings)
+    .where(eq(findings.runId, sql.placeholder("runId")))
+    .orderBy(asc(findings.round))
+    .prepare(),
+  findingById: db
+    .select()
+    .from(findings)
+    .where(eq(findings.id, sql.placeholder("id")))
+    .prepare(),
+  board: db
+    .select()
+    .from(boards)
+    .where(and(eq(boards.id, sql.placeholder("boardId")), eq(boards.shopId, sql.placeholder("shopId"))))
+    .prepare(),
+  version: db
+    .select({ number: mapVersions.number, mapId: maps.id, mapName: maps.name })
+    .from(mapVersions)
+    .innerJoin(maps, eq(maps.id, mapVersions.mapId))
+    .where(eq(mapVersions.id, sql.placeholder("versionId")))
+    .prepare(),
+};
+
+export async function getRunRow(shopId: string, runId: string) {
+  return hot.run.get({ runId, shopId });
 }
 
 function engineValue(r: ReadingRow): number | "OL" {
@@ -448,20 +500,11 @@ export async function getRunView(shopId: string, runId: string) {
   const doc = await getVersionDoc(shopId, run.mapVersionId);
   if (!doc) throw new RunError(400, "The run's map version cannot be read.");
   const [board, version, rows, notes, findingRows, job] = await Promise.all([
-    db
-      .select()
-      .from(boards)
-      .where(and(eq(boards.id, run.boardId), eq(boards.shopId, shopId)))
-      .get(),
-    db
-      .select({ number: mapVersions.number, mapId: maps.id, mapName: maps.name })
-      .from(mapVersions)
-      .innerJoin(maps, eq(maps.id, mapVersions.mapId))
-      .where(eq(mapVersions.id, run.mapVersionId))
-      .get(),
-    db.select().from(readings).where(eq(readings.runId, run.id)).orderBy(asc(readings.seq)).all(),
-    db.select().from(runNotes).where(eq(runNotes.runId, run.id)).orderBy(asc(runNotes.createdAt)).all(),
-    db.select().from(findings).where(eq(findings.runId, run.id)).orderBy(asc(findings.round)).all(),
+    hot.board.get({ boardId: run.boardId, shopId }),
+    hot.version.get({ versionId: run.mapVersionId }),
+    hot.readings.all({ runId: run.id }),
+    hot.notes.all({ runId: run.id }),
+    hot.findings.all({ runId: run.id }),
     run.jobId
       ? db
           .select({ id: jobs.id, number: jobs.number, complaint: jobs.complaint })
@@ -712,7 +755,7 @@ export async function saveReading(input: SaveReadingInput): Promise<SaveReadingA
   if (!run) throw new RunError(404, "That run was not found in your shop.");
   const doc = await getVersionDoc(input.shopId, run.mapVersionId);
   if (!doc) throw new RunError(400, "The run's map version cannot be read.");
-  const existing = await db.select().from(readings).where(eq(readings.id, input.id)).get();
+  const existing = await hot.readingById.get({ id: input.id });
   if (existing) {
     if (existing.runId !== run.id || existing.shopId !== input.shopId)
       throw new RunError(409, "That reading id is already used; reload the page and take the reading again.");
@@ -746,13 +789,7 @@ export async function saveReading(input: SaveReadingInput): Promise<SaveReadingA
     if (old.netId !== input.netId || old.mode !== input.mode)
       throw new RunError(400, "A correction must measure the same net in the same mode.");
   }
-  const last = await db
-    .select({ seq: readings.seq, takenBy: readings.takenBy })
-    .from(readings)
-    .where(eq(readings.runId, run.id))
-    .orderBy(desc(readings.seq))
-    .limit(1)
-    .get();
+  const last = await hot.lastReading.get({ runId: run.id });
   const nextSeq = (last?.seq ?? 0) + 1;
   if (input.expectedSeq !== nextSeq) throw conflict(last?.takenBy, input.userId);
   const row: ReadingRow = {
@@ -808,12 +845,7 @@ export async function refreshRunStatus(
 ): Promise<RunRow["status"]> {
   const run = loaded?.run ?? (await getRunRow(shopId, runId))!;
   const doc = loaded?.doc ?? (await getVersionDoc(shopId, run.mapVersionId))!;
-  const rows = await db
-    .select()
-    .from(readings)
-    .where(eq(readings.runId, run.id))
-    .orderBy(asc(readings.seq))
-    .all();
+  const rows = await hot.readings.all({ runId: run.id });
   const { analysis } = await analyseRun(shopId, run, doc, rows);
   const f = analysis.isolated ? analysis.finding : null;
   const status: RunRow["status"] =
@@ -825,7 +857,7 @@ export async function refreshRunStatus(
           : "isolated"
         : "open";
   const findingId = `${run.id}-r${run.round}`;
-  const current = await db.select().from(findings).where(eq(findings.id, findingId)).get();
+  const current = await hot.findingById.get({ id: findingId });
   const ops = [];
   if (status !== run.status)
     ops.push(

@@ -1,10 +1,10 @@
 import { sha256 } from "@oslojs/crypto/sha2";
 import { constantTimeEqual } from "@oslojs/crypto/subtle";
-import { and, eq, lt } from "drizzle-orm";
+import { and, eq, lt, sql } from "drizzle-orm";
 import { db } from "./db.server";
 import { secureCookies } from "./env.server";
 import { newId } from "./ids.server";
-import { sessions, users } from "./schema.server";
+import { members, sessions, shops, users } from "./schema.server";
 
 // Database sessions after the session guide that replaced the lucia package: the cookie holds "<id>.<secret>",
 // the database keeps only SHA-256(secret), compared in constant time.
@@ -40,18 +40,30 @@ function readToken(request: Request): string | null {
   return null;
 }
 
+// Every signed-in request runs this: one prepared statement brings the session, its user and the membership
+// in the session's shop (null when the user was removed from it; requireMember then picks another shop).
+const sessionById = db
+  .select({
+    session: sessions,
+    user: { id: users.id, email: users.email, name: users.name },
+    member: members,
+    shop: shops,
+  })
+  .from(sessions)
+  .innerJoin(users, eq(users.id, sessions.userId))
+  .leftJoin(members, and(eq(members.userId, sessions.userId), eq(members.shopId, sessions.shopId)))
+  .leftJoin(shops, eq(shops.id, members.shopId))
+  .where(eq(sessions.id, sql.placeholder("id")))
+  .prepare();
+
 export async function getSession(request: Request) {
   const token = readToken(request);
   if (!token) return null;
   const [id, secret] = token.split(".");
   if (!id || !secret) return null;
-  const row = await db
-    .select({ session: sessions, user: { id: users.id, email: users.email, name: users.name } })
-    .from(sessions)
-    .innerJoin(users, eq(users.id, sessions.userId))
-    .where(eq(sessions.id, id))
-    .get();
-  if (!row) return null;
+  const found = await sessionById.get({ id });
+  if (!found) return null;
+  const { member, shop, ...row } = found;
   if (!constantTimeEqual(new Uint8Array(row.session.secretHash), new Uint8Array(hashSecret(secret))))
     return null;
   const now = Date.now();
@@ -65,7 +77,7 @@ export async function getSession(request: Request) {
       .set({ lastSeenAt: new Date(now) })
       .where(eq(sessions.id, id));
   }
-  return row;
+  return { ...row, membership: member && shop ? { member, shop } : null };
 }
 
 export function sessionCookie(token: string) {

@@ -136,6 +136,22 @@ test.describe("bench walker", () => {
     expect(page.url()).toContain(runId);
   });
 
+  test("a reading revalidates only the run's data, as bench/walker.ts measures it", async ({ page }) => {
+    await signIn(page, DEMO.tech);
+    const runId = await startRun(page);
+    const data: string[] = [];
+    page.on("request", (r) => {
+      if (r.url().includes(".data"))
+        data.push(`${r.method()} ${new URL(r.url()).pathname}${new URL(r.url()).search}`);
+    });
+    await takeCheck(page, simulateBoard(OM_5150_MAP, ATTACHED, { part: "r-en3" }));
+    await expect.poll(() => data.length).toBeGreaterThanOrEqual(2);
+    expect(data.slice(0, 2)).toEqual([
+      `POST /runs/${runId}.data`,
+      `GET /runs/${runId}.data?_routes=routes%2Frun`,
+    ]);
+  });
+
   test("an unparseable reading shows a message and saves nothing", async ({ page }) => {
     await signIn(page, DEMO.tech);
     await startRun(page, "order");
@@ -215,13 +231,11 @@ test.describe("bench walker", () => {
     await expect.poll(() => photo.evaluate((img: HTMLImageElement) => img.naturalWidth)).toBe(1);
     // A file that is not a photo is refused with a message, and the note text stays to try again.
     await page.getByLabel("Add a note").fill("see the attached board file");
-    await page
-      .getByLabel(/^Photo/)
-      .setInputFiles({
-        name: "board.png",
-        mimeType: "image/png",
-        buffer: Buffer.from("not an image at all"),
-      });
+    await page.getByLabel(/^Photo/).setInputFiles({
+      name: "board.png",
+      mimeType: "image/png",
+      buffer: Buffer.from("not an image at all"),
+    });
     await page.getByRole("button", { name: "Save note" }).click();
     await expect(
       page.getByRole("alert").filter({ hasText: "is not a PNG, JPEG or WebP photo" }),
