@@ -13,7 +13,7 @@ export function securityHeaders(nonce: string, dev = false): Record<string, stri
     `connect-src 'self'${dev ? " ws: wss:" : ""}`,
     "form-action 'self'",
     "frame-ancestors 'none'",
-    "base-uri 'self'",
+    "base-uri 'none'",
     "object-src 'none'",
   ].join("; ");
   return {

@@ -126,6 +126,9 @@ test("pages carry a nonce-based script policy and still hydrate under it", async
   expect(scriptSrc).toMatch(/'nonce-[A-Za-z0-9]+'/);
   expect(scriptSrc).not.toContain("unsafe-inline");
   expect(csp).toContain("frame-ancestors 'none'");
+  // ASVS 5.0 3.4.3's minimum policy: object-src 'none' and base-uri 'none'.
+  expect(csp).toContain("object-src 'none'");
+  expect(csp).toContain("base-uri 'none'");
   expect(headers["referrer-policy"]).toBe("strict-origin-when-cross-origin");
   expect(headers["x-content-type-options"]).toBe("nosniff");
   // The route modules register themselves only when the module scripts ran: proof the nonce let them in.
