@@ -1,9 +1,9 @@
+import { useEffect, useState } from "react";
 import {
   Form,
   NavLink,
   Outlet,
   type ShouldRevalidateFunctionArgs,
-  useFetcher,
   useNavigation,
 } from "react-router";
 import { LogoMark } from "~/components/logo";
@@ -142,18 +142,22 @@ const NEXT_THEME = { system: "light", light: "dark", dark: "system" } as const;
 const THEME_LABEL = { system: "Theme: follows system", light: "Theme: light", dark: "Theme: dark" } as const;
 
 function ThemeToggle({ theme }: { theme: keyof typeof NEXT_THEME }) {
-  const fetcher = useFetcher();
-  const shown = (fetcher.formData?.get("theme") as keyof typeof NEXT_THEME | undefined) ?? theme;
+  // The choice is a display preference kept in a cookie: with JavaScript it is applied and stored right here,
+  // with no request, so two quick clicks can never have their answers land out of order. Without JavaScript
+  // the form posts to /theme, which sets the same cookie.
+  const [shown, setShown] = useState(theme);
+  useEffect(() => setShown(theme), [theme]);
   return (
-    <fetcher.Form
+    <form
       method="post"
       action="/theme"
-      onSubmit={() => {
+      onSubmit={(e) => {
+        e.preventDefault();
         const next = NEXT_THEME[shown];
         document.documentElement.dataset.theme = next;
-        // Written here as well as by the action, so a reload before the response lands keeps the choice.
         // biome-ignore lint/suspicious/noDocumentCookie: a plain display preference cookie, same string the server sets.
         document.cookie = themeCookie(next);
+        setShown(next);
       }}
     >
       <input type="hidden" name="theme" value={NEXT_THEME[shown]} />
@@ -165,7 +169,7 @@ function ThemeToggle({ theme }: { theme: keyof typeof NEXT_THEME }) {
       >
         {shown === "dark" ? "☾" : shown === "light" ? "☀" : "◐"}
       </button>
-    </fetcher.Form>
+    </form>
   );
 }
 

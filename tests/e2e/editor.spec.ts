@@ -251,6 +251,15 @@ test("a photo upload shows its probe marker, and a text file named .png is refus
   await expect(marker).toBeVisible();
   await expect(page.getByText("Marker at 50% across, 50% down.")).toBeVisible();
   const img = page.getByRole("button", { name: /Board photo: click to place/ });
+  // Measure only once the photo has loaded: before that its box is a few pixels high and the click lands elsewhere.
+  await expect
+    .poll(() =>
+      img.evaluate((el) => {
+        const pic = el instanceof HTMLImageElement ? el : el.querySelector("img");
+        return !!pic && pic.complete && pic.naturalWidth > 0 && pic.getBoundingClientRect().height > 20;
+      }),
+    )
+    .toBe(true);
   const box = (await img.boundingBox())!;
   await img.click({ position: { x: box.width * 0.25, y: box.height * 0.75 } });
   // The marker is saved through the autosave round trip, which is slow on a loaded machine.
