@@ -1,11 +1,5 @@
 import { useEffect, useState } from "react";
-import {
-  Form,
-  NavLink,
-  Outlet,
-  type ShouldRevalidateFunctionArgs,
-  useNavigation,
-} from "react-router";
+import { Form, NavLink, Outlet, type ShouldRevalidateFunctionArgs, useNavigation } from "react-router";
 import { LogoMark } from "~/components/logo";
 import { can, type Permission, ROLE_LABELS } from "~/lib/permissions";
 import { listMemberships, requireMember } from "~/server/auth.server";
