@@ -50,14 +50,22 @@ type TechState = {
 // After a conflict (e.g. an action that timed out at the client but was saved), a tech reads the run's last step
 // again, as the walker does by revalidating; the bench reads it from its own database file.
 let benchDb: ReturnType<typeof createClient> | null = null;
+/** The sequence number the run's next reading must carry, read from the bench's database file. */
+async function nextSeq(runId: string) {
+  benchDb ??= createClient({ url: `file:${DB_FILE}` });
+  const r = await benchDb.execute({
+    sql: "select coalesce(max(seq), 0) as s from readings where run_id = ?",
+    args: [runId],
+  });
+  return Number(r.rows[0]?.s ?? 0) + 1;
+}
+
 function resync(st: TechState) {
   if (st.resyncing) return;
   st.resyncing = true;
-  benchDb ??= createClient({ url: `file:${DB_FILE}` });
-  benchDb
-    .execute({ sql: "select coalesce(max(seq), 0) as s from readings where run_id = ?", args: [st.runId] })
-    .then((r) => {
-      st.seq = Number(r.rows[0]?.s ?? 0) + 1;
+  nextSeq(st.runId)
+    .then((seq) => {
+      st.seq = seq;
     })
     .finally(() => {
       st.resyncing = false;
@@ -67,14 +75,7 @@ function resync(st: TechState) {
 /** A phase that stops mid-request leaves a reading saved whose answer never came: start each phase in step. */
 async function resyncAll(techs: TechState[]) {
   await new Promise((r) => setTimeout(r, 300));
-  benchDb ??= createClient({ url: `file:${DB_FILE}` });
-  for (const st of techs) {
-    const r = await benchDb.execute({
-      sql: "select coalesce(max(seq), 0) as s from readings where run_id = ?",
-      args: [st.runId],
-    });
-    st.seq = Number(r.rows[0]?.s ?? 0) + 1;
-  }
+  for (const st of techs) st.seq = await nextSeq(st.runId);
 }
 
 function log(msg: string) {

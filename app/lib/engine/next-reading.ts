@@ -229,6 +229,26 @@ function pickSplit(ctx: ChooseContext, list: Test[]): Test | null {
   return [...list].sort(byOrder(ctx.m))[0] ?? null;
 }
 
+/** A check as the walker shows it: the reason, with the expected window and probe point for a live reading. */
+function stepFor(node: NetNode, t: Test, why: string, separates: number): NextStep {
+  const range = node.expected[t.mode];
+  const win = range ? windowOf(range) : null;
+  const where =
+    win && t.kind === "v"
+      ? ` Expect ${formatQuantity(win.min, unitForMode(t.mode))}–${formatQuantity(win.max, unitForMode(t.mode))} at ${node.probe.text}.`
+      : "";
+  return {
+    netId: node.id,
+    netName: node.name,
+    mode: t.mode,
+    why: why + where,
+    probe: node.probe,
+    expected: win,
+    cost: t.cost,
+    separates,
+  };
+}
+
 function explain(ctx: ChooseContext, t: Test, total: number, strategy: Strategy): NextStep {
   const { m, s } = ctx;
   const node = netOf(m, t.net);
@@ -254,20 +274,7 @@ function explain(ctx: ChooseContext, t: Test, total: number, strategy: Strategy)
       why = `With the board unpowered, ${limit} on ${node.name} means it is shorted; otherwise a short there is ruled out.${strategy === "best" ? ` Separates ${pct} of the remaining likelihood.` : ""}`;
     }
   }
-  const range = node.expected[t.mode];
-  const win = range ? windowOf(range) : null;
-  if (win && t.kind === "v")
-    why += ` Expect ${formatQuantity(win.min, unitForMode(t.mode))}–${formatQuantity(win.max, unitForMode(t.mode))} at ${node.probe.text}.`;
-  return {
-    netId: node.id,
-    netName: node.name,
-    mode: t.mode,
-    why,
-    probe: node.probe,
-    expected: win,
-    cost: t.cost,
-    separates,
-  };
+  return stepFor(node, t, why, separates);
 }
 
 /**
@@ -298,21 +305,8 @@ export function confirmingStep(ctx: ChooseContext, k: number): NextStep | null {
     t.kind === "v"
       ? `If ${node.name} is missing, ${suspect} is the fault; if it is present, the fault lies outside this map.`
       : `A short there confirms it; otherwise the fault lies outside this map.`;
-  let why = `Only ${suspect} is left, but every reading so far is also what a board with no fault in this map shows. ${outcome}`;
-  const range = node.expected[t.mode];
-  const win = range ? windowOf(range) : null;
-  if (win && t.kind === "v")
-    why += ` Expect ${formatQuantity(win.min, unitForMode(t.mode))}–${formatQuantity(win.max, unitForMode(t.mode))} at ${node.probe.text}.`;
-  return {
-    netId: node.id,
-    netName: node.name,
-    mode: t.mode,
-    why,
-    probe: node.probe,
-    expected: win,
-    cost: t.cost,
-    separates: 0.5,
-  };
+  const why = `Only ${suspect} is left, but every reading so far is also what a board with no fault in this map shows. ${outcome}`;
+  return stepFor(node, t, why, 0.5);
 }
 
 /** Chooses the next reading for the suspects in `ctx`, or null when nothing left would split them. */
