@@ -10,15 +10,20 @@ test("a lead filters hot spots by board and exports the same rows as CSV", async
   await expect(page).toHaveURL(/\/insights/);
   await expect(page.getByRole("heading", { name: "Hot spots" })).toBeVisible();
 
+  // The URL changes before the filtered page is drawn, so wait for the row count to change too
+  // (the demo history has runs of both boards, so filtering to one always drops rows).
+  const rowCount = page.getByText(/\d+ rows · page/);
+  const unfiltered = (await rowCount.textContent()) ?? "";
   await page
     .getByRole("form", { name: "Filters" })
     .getByLabel("Board")
     .selectOption({ label: "OM-5150 rev C · Marlow 15" });
   await page.getByRole("button", { name: "Apply filters" }).click();
   await expect(page).toHaveURL(/board=demo-board-om5150/);
+  await expect(rowCount).not.toHaveText(unfiltered);
 
   const table = page.getByRole("table", { name: /Hot spots by board and node/ });
-  const summary = await page.getByText(/\d+ rows · page/).textContent();
+  const summary = await rowCount.textContent();
   const total = Number(summary?.match(/^(\d+) rows/)?.[1]);
   expect(total).toBeGreaterThan(0);
   // What the page shows on its first page: board and the two counts of each row, in ranked order.
