@@ -19,16 +19,25 @@ if (workers > 1 && cluster.isPrimary) {
     console.error(`worker ${worker.process.pid} ended (${signal ?? code}); starting another`);
     cluster.fork();
   });
+  // The primary hands connections to the workers, so it waits for them to end (or 5 s) before it goes.
   const stop = () => {
+    if (stopping) return;
     stopping = true;
-    for (const w of Object.values(cluster.workers ?? {})) w?.kill("SIGTERM");
-    process.exit(0);
+    const alive = () => Object.values(cluster.workers ?? {}).filter((w) => w && !w.isDead());
+    if (!alive().length) process.exit(0);
+    cluster.on("exit", () => {
+      if (!alive().length) process.exit(0);
+    });
+    for (const w of alive()) w.kill("SIGTERM");
+    setTimeout(() => process.exit(0), 5000).unref();
   };
   process.on("SIGTERM", stop);
   process.on("SIGINT", stop);
 } else {
   // A worker whose primary is gone has no one to hand it connections: end with it.
   if (cluster.isWorker) process.on("disconnect", () => process.exit(0));
+  // Ending through exit() lets Node finish its own work on the way out (e.g. a --cpu-prof profile).
+  process.on("SIGTERM", () => process.exit(0));
   await serve();
 }
 

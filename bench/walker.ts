@@ -1,7 +1,8 @@
 // Bench walker speed (issue 5, item 8): the production build under 50 simulated technicians.
 //
 //   npm run bench:walker            (RAILWISE_BUILD_DIR picks the build folder, BENCH_PORT the port; default 3451;
-//                                    WEB_CONCURRENCY the server's worker processes, default 2: one per core)
+//                                    WEB_CONCURRENCY the server's worker processes, default 2: one per core;
+//                                    BENCH_NODE_ARGS extra node flags for the server, e.g. to profile it)
 //
 // 1. Fixed offered rate: 50 techs, each submitting a reading every 500 ms = 100 readings/s. Each reading is the
 //    run's action (POST /runs/:id.data, as the walker's fetcher sends it) followed by the revalidating data
@@ -98,7 +99,9 @@ async function waitForHealth(timeoutMs = 30_000) {
 
 function startServer(): ChildProcess {
   for (const suffix of ["", "-wal", "-shm"]) rmSync(`${DB_FILE}${suffix}`, { force: true });
-  const child = spawn(process.execPath, ["server.mjs"], {
+  // BENCH_NODE_ARGS, e.g. "--cpu-prof --cpu-prof-dir=/tmp/prof", is passed to the server's node.
+  const nodeArgs = (process.env.BENCH_NODE_ARGS ?? "").split(" ").filter(Boolean);
+  const child = spawn(process.execPath, [...nodeArgs, "server.mjs"], {
     env: {
       ...process.env,
       NODE_ENV: "production",

@@ -6,6 +6,8 @@ const EnvSchema = z.object({
   DATABASE_URL: z.string().min(1).default("file:./data/railwise.db"),
   DATABASE_AUTH_TOKEN: z.string().optional(),
   DATABASE_TIMEOUT_MS: z.coerce.number().int().positive().default(5000),
+  // SQLite's commit durability for a file database (docs/decisions/008-sqlite-commit-durability.md).
+  DATABASE_SYNCHRONOUS: z.enum(["normal", "full"]).default("normal"),
   SESSION_SECRET: z.string().min(16).default("dev-only-session-secret-change-me"),
   MAIL_CAPTURE: z.enum(["0", "1"]).optional(),
   SMTP_URL: z.string().optional(),
