@@ -22,6 +22,8 @@ export const shops = sqliteTable("shops", {
   taxRateBp: integer("tax_rate_bp").notNull().default(0),
   warrantyDays: integer("warranty_days").notNull().default(90),
   retentionDays: integer("retention_days").notNull().default(730),
+  /** How long an unclaimed device is kept after the customer is told it is ready, as the intake terms say. */
+  unclaimedDays: integer("unclaimed_days").notNull().default(60),
   createdAt: createdAt(),
 });
 
@@ -727,9 +729,15 @@ export const payments = sqliteTable(
     note: text("note").notNull().default(""),
     recordedBy: text("recorded_by"),
     settledAt: integer("settled_at", { mode: "timestamp_ms" }),
+    /** A counter payment's form carries one, so a double submit records the money once. */
+    idempotencyKey: text("idempotency_key"),
     createdAt: createdAt(),
   },
-  (t) => [index("payments_invoice").on(t.invoiceId), index("payments_session").on(t.providerSessionId)],
+  (t) => [
+    index("payments_invoice").on(t.invoiceId),
+    index("payments_session").on(t.providerSessionId),
+    uniqueIndex("payments_shop_idempotency").on(t.shopId, t.idempotencyKey),
+  ],
 );
 
 // Provider webhook events already applied: a replayed delivery finds its id here and changes nothing.
