@@ -18,11 +18,13 @@ import {
   type MapDocument,
   type MapEdge,
   type MapNode,
+  powerUpSequence,
   type ValidationIssue,
   validateMap,
 } from "~/lib/engine";
 import { applyChanges, diffDocuments, edgeKindFor, type MapChange } from "~/lib/map-changes";
 import { DEFAULT_NODE_SIZE, layoutDocument, withPositions } from "~/lib/map-layout";
+import { issueFocus } from "./issue-focus";
 import { NodePanel, SettingsPanel } from "./node-panel";
 import { type FlowNode, type Mark, NODE_TYPES } from "./nodes";
 import { useMapHistory } from "./use-map-history";
@@ -79,9 +81,10 @@ export function MapEditor(props: {
 }) {
   // The provider gets the nodes with their fixed sizes and a guessed canvas size, so the server already
   // renders every node in place and the browser paints them before the scripts run.
-  const [initialNodes] = useState(() =>
-    props.doc.nodes.map((n) => toFlowNode(n, undefined, false, !props.canEdit)),
-  );
+  const [initialNodes] = useState(() => {
+    const stage = stagesOf(props.doc);
+    return props.doc.nodes.map((n) => toFlowNode(n, undefined, false, !props.canEdit, stage?.[n.id]));
+  });
   const [initialEdges] = useState(() => props.doc.edges.map((e) => toFlowEdge(e, false)));
   return (
     <ReactFlowProvider
@@ -101,13 +104,25 @@ const CANVAS_GUESS = { width: 900, height: 640 };
 const MIN_ZOOM = 0.05;
 const READABLE_ZOOM = 0.55;
 
-function toFlowNode(n: MapNode, mark: Mark, selected: boolean, readOnly: boolean): FlowNode {
+/** Each node's power-up stage (the engine's topological level), or null while the map has a cycle. */
+function stagesOf(doc: MapDocument): Record<string, number> | null {
+  const seq = powerUpSequence(doc);
+  return seq.ok ? seq.value.level : null;
+}
+
+function toFlowNode(
+  n: MapNode,
+  mark: Mark,
+  selected: boolean,
+  readOnly: boolean,
+  stage: number | undefined,
+): FlowNode {
   // Fixed sizes let xyflow show nodes (and lay them out) without waiting to measure each one.
   return {
     id: n.id,
     type: n.kind,
     position: n.position ?? { x: 0, y: 0 },
-    data: { node: n, mark, readOnly },
+    data: { node: n, mark, readOnly, stage },
     selected,
     width: DEFAULT_NODE_SIZE.width,
     height: DEFAULT_NODE_SIZE.height,
@@ -211,6 +226,7 @@ function EditorInner({
     return () => clearTimeout(t);
   }, [doc]);
   const report = useMemo(() => validateMap(validated), [validated]);
+  const stages = useMemo(() => stagesOf(validated), [validated]);
   const issues = report.ok
     ? report.value.issues
     : [{ ...report.error, severity: "error" as const, nodeIds: [] }];
@@ -284,24 +300,26 @@ function EditorInner({
   }, [history.latest]);
 
   // --- flow nodes and edges ---------------------------------------------------------------------------
-  const cache = useRef(new Map<string, { src: MapNode; mark: Mark; sel: boolean; rf: FlowNode }>());
+  type Cached = { src: MapNode; mark: Mark; sel: boolean; stage: number | undefined; rf: FlowNode };
+  const cache = useRef(new Map<string, Cached>());
   const nodes = useMemo(() => {
-    const next = new Map<string, { src: MapNode; mark: Mark; sel: boolean; rf: FlowNode }>();
+    const next = new Map<string, Cached>();
     const out = doc.nodes.map((n) => {
       const mark = marks.get(n.id);
       const sel = selected.has(n.id);
+      const stage = stages?.[n.id];
       const c = cache.current.get(n.id);
-      if (c && c.src === n && c.mark === mark && c.sel === sel) {
+      if (c && c.src === n && c.mark === mark && c.sel === sel && c.stage === stage) {
         next.set(n.id, c);
         return c.rf;
       }
-      const rf = toFlowNode(n, mark, sel, readOnly);
-      next.set(n.id, { src: n, mark, sel, rf });
+      const rf = toFlowNode(n, mark, sel, readOnly, stage);
+      next.set(n.id, { src: n, mark, sel, stage, rf });
       return rf;
     });
     cache.current = next;
     return out;
-  }, [doc.nodes, marks, selected, readOnly]);
+  }, [doc.nodes, marks, selected, readOnly, stages]);
 
   const edges = useMemo<Edge[]>(
     () => doc.edges.map((e) => toFlowEdge(e, selectedEdges.has(e.id))),
@@ -440,11 +458,11 @@ function EditorInner({
   }, [readOnly, selected, history]);
 
   const focusNodes = useCallback(
-    (ids: string[]) => {
+    (ids: string[], edgeIds: string[] = []) => {
       const present = ids.filter((id) => history.latest.current.nodes.some((n) => n.id === id));
       if (!present.length) return;
       setSelected(new Set(present));
-      setSelectedEdges(new Set());
+      setSelectedEdges(new Set(edgeIds));
       flow.fitView({ nodes: present.map((id) => ({ id })), duration: 300, maxZoom: 1.3, padding: 0.4 });
     },
     [flow, history.latest],
@@ -840,7 +858,10 @@ function EditorInner({
                 <button
                   type="button"
                   className={`w-full rounded px-2 py-1 text-left text-sm hover:bg-sunken ${i.severity === "error" ? "text-bad" : "text-warn"}`}
-                  onClick={() => focusNodes(i.nodeIds)}
+                  onClick={() => {
+                    const f = issueFocus(i, history.latest.current);
+                    focusNodes(f.nodeIds, f.edgeIds);
+                  }}
                   data-code={i.code}
                 >
                   <span className="font-semibold">{i.severity === "error" ? "Error" : "Warning"}:</span>{" "}

@@ -3,7 +3,8 @@ import { memo } from "react";
 import type { MapNode, PartNode, RailNode, SignalNode, SourceNode } from "~/lib/engine";
 
 export type Mark = "error" | "warning" | undefined;
-export type NodeData<T extends MapNode> = { node: T; mark: Mark; readOnly: boolean };
+/** `stage` is the node's power-up stage computed by the engine; undefined while the map has a cycle. */
+export type NodeData<T extends MapNode> = { node: T; mark: Mark; readOnly: boolean; stage?: number };
 export type SourceFlowNode = Node<NodeData<SourceNode>, "source">;
 export type RailFlowNode = Node<NodeData<RailNode>, "rail">;
 export type SignalFlowNode = Node<NodeData<SignalNode>, "signal">;
@@ -29,6 +30,7 @@ function Shell({
   mark,
   title,
   detail,
+  stage,
   badge,
   inHandle,
   outHandle,
@@ -39,6 +41,7 @@ function Shell({
   mark: Mark;
   title: string;
   detail: string;
+  stage: number | undefined;
   badge?: string;
   inHandle: boolean;
   outHandle: boolean;
@@ -51,6 +54,7 @@ function Shell({
       }`}
       data-kind={kind}
       data-mark={mark ?? "none"}
+      data-stage={stage ?? "none"}
     >
       {inHandle ? (
         <Handle
@@ -61,10 +65,25 @@ function Shell({
         />
       ) : null}
       <div className="flex items-center justify-between gap-2 text-[10px] font-semibold uppercase tracking-wider text-muted">
-        <span>{KIND_LABEL[kind]}</span>
+        <span className="flex items-center gap-1">
+          {KIND_LABEL[kind]}
+          <span
+            className="rounded border border-line px-1 font-mono normal-case tracking-normal text-ink"
+            title={
+              stage === undefined
+                ? "No power-up stage while the map has a cycle"
+                : `Power-up stage ${stage} (0 comes up first)`
+            }
+          >
+            {stage === undefined ? "stage ?" : `stage ${stage}`}
+          </span>
+        </span>
         <span className="flex items-center gap-1">
           {badge ? (
-            <span className="rounded bg-sunken px-1 py-px font-mono normal-case tracking-normal text-ink">
+            <span
+              className="rounded bg-sunken px-1 py-px font-mono normal-case tracking-normal text-ink"
+              title={`Tagged ${badge}: the deepest sleep state in which it stays powered`}
+            >
               {badge}
             </span>
           ) : null}
@@ -102,6 +121,7 @@ const SourceView = memo(function SourceView({ data, selected }: NodeProps<Source
       kind="source"
       selected={selected}
       mark={data.mark}
+      stage={data.stage}
       title={n.name}
       detail={n.sourceKind ?? "source"}
       inHandle={false}
@@ -118,6 +138,7 @@ const RailView = memo(function RailView({ data, selected }: NodeProps<RailFlowNo
       kind="rail"
       selected={selected}
       mark={data.mark}
+      stage={data.stage}
       title={n.name}
       detail={`${volts(n.nominalV)} ±${n.tolerancePct}%`}
       badge={n.stage}
@@ -135,6 +156,7 @@ const SignalView = memo(function SignalView({ data, selected }: NodeProps<Signal
       kind="signal"
       selected={selected}
       mark={data.mark}
+      stage={data.stage}
       title={n.name}
       detail={`${n.activeLow ? "active low" : "active high"} · ${volts(n.highV)}`}
       badge={n.stage}
@@ -152,6 +174,7 @@ const PartView = memo(function PartView({ data, selected }: NodeProps<PartFlowNo
       kind="part"
       selected={selected}
       mark={data.mark}
+      stage={data.stage}
       title={`${n.refdes ? `${n.refdes} · ` : ""}${n.name}`}
       detail={`${n.partType}${n.value ? ` · ${n.value}` : ""}`}
       inHandle
