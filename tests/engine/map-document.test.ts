@@ -79,6 +79,49 @@ describe("map document", () => {
     expect(MapDocumentSchema.safeParse(OM_5150_MAP).success).toBe(true);
   });
 
+  it("keeps a part's optional safety notes: old documents stay valid, new ones round-trip exactly", () => {
+    const parts = OM_5150_MAP.nodes.filter((n) => n.kind === "part");
+    expect(parts.length).toBeGreaterThan(0);
+    // Documents written before parts had safety notes have none and still parse.
+    expect(parts.every((p) => !("safetyNotes" in p))).toBe(true);
+    expect(parseMapDocument(OM_5150_MAP).ok).toBe(true);
+
+    const noted = {
+      ...OM_5150_MAP,
+      nodes: OM_5150_MAP.nodes.map((n) =>
+        n.id === parts[0].id ? { ...n, safetyNotes: "Disconnect the battery before hot air here." } : n,
+      ),
+    };
+    const text = mapToJson(noted);
+    expect(text.ok).toBe(true);
+    if (!text.ok) return;
+    expect(text.value).toContain('"safetyNotes": "Disconnect the battery before hot air here."');
+    const back = mapFromJson(text.value);
+    expect(back).toEqual({ ok: true, value: noted });
+    expect(back.ok && mapToJson(back.value)).toEqual({ ok: true, value: text.value });
+
+    const tooLong = {
+      ...noted,
+      nodes: noted.nodes.map((n) => (n.id === parts[0].id ? { ...n, safetyNotes: "x".repeat(4001) } : n)),
+    };
+    const refused = parseMapDocument(tooLong);
+    expect(refused.ok).toBe(false);
+    if (!refused.ok) expect(refused.error.message).toMatch(/safetyNotes/);
+  });
+
+  it("describes the part's safety notes in the exported JSON Schema", () => {
+    const schema = mapDocumentJsonSchema() as {
+      properties: { nodes: { items: { anyOf?: unknown[]; oneOf?: unknown[] } } };
+    };
+    const variants = (schema.properties.nodes.items.anyOf ?? schema.properties.nodes.items.oneOf) as Array<{
+      properties: { kind: { const: string }; safetyNotes?: { type: string; maxLength: number } };
+      required: string[];
+    }>;
+    const part = variants.find((v) => v.properties.kind.const === "part");
+    expect(part?.properties.safetyNotes).toMatchObject({ type: "string", maxLength: 4000 });
+    expect(part?.required).not.toContain("safetyNotes");
+  });
+
   it("refuses bad JSON, wrong versions and huge inputs with typed errors", () => {
     expect(mapFromJson("{").ok).toBe(false);
     expect(mapFromJson(JSON.stringify({ ...smallMap(), version: 2 })).ok).toBe(false);

@@ -545,7 +545,7 @@ function PartFields({
         {node.fixes.length === 0 ? <p className="text-xs text-muted">No fixes listed.</p> : null}
         <ul className="flex flex-col gap-1">
           {node.fixes.map((f, i) => (
-            <li key={f.id} className="flex items-center gap-1">
+            <li key={f.id} className="flex items-start gap-1">
               <select
                 aria-label={`Kind of fix ${i + 1}`}
                 className="field-input w-36 py-1 text-xs"
@@ -566,9 +566,14 @@ function PartFields({
                   </option>
                 ))}
               </select>
-              <span className="flex-1 truncate text-xs" title={f.label}>
-                {f.label}
-              </span>
+              <FixLabel
+                index={i}
+                label={f.label}
+                readOnly={readOnly}
+                onCommit={(label) =>
+                  onChange({ ...node, fixes: node.fixes.map((x) => (x.id === f.id ? { ...x, label } : x)) })
+                }
+              />
               {readOnly ? null : (
                 <button
                   type="button"
@@ -619,7 +624,73 @@ function PartFields({
           </div>
         )}
       </fieldset>
+      <CommitField
+        label="Safety notes"
+        value={node.safetyNotes ?? ""}
+        schema={NotesFieldSchema}
+        multiline
+        readOnly={readOnly}
+        hint="e.g. disconnect the battery before hot air on this part; ventilate flux fumes."
+        onCommit={(v) => onChange({ ...node, safetyNotes: v || undefined })}
+      />
     </>
+  );
+}
+
+/** A fix's label, edited in place: committed on blur or Enter, refused with a message when empty or too long. */
+function FixLabel({
+  index,
+  label,
+  readOnly,
+  onCommit,
+}: {
+  index: number;
+  label: string;
+  readOnly: boolean;
+  onCommit: (label: string) => void;
+}) {
+  const id = useId();
+  const [text, setText] = useState(label);
+  const [error, setError] = useState<string | null>(null);
+  useEffect(() => {
+    setText(label);
+    setError(null);
+  }, [label]);
+  if (readOnly)
+    return (
+      <span className="flex-1 truncate py-1 text-xs" title={label}>
+        {label}
+      </span>
+    );
+  const commit = () => {
+    if (text === label) return setError(null);
+    const r = FixLabelFieldSchema.safeParse(text);
+    setError(firstError(r));
+    if (r.success) onCommit(r.data);
+  };
+  return (
+    <span className="flex min-w-0 flex-1 flex-col gap-0.5">
+      <input
+        aria-label={`Label of fix ${index + 1}`}
+        className="field-input py-1 text-xs"
+        value={text}
+        aria-invalid={error ? true : undefined}
+        aria-describedby={error ? `${id}-err` : undefined}
+        onChange={(e) => setText(e.target.value)}
+        onBlur={commit}
+        onKeyDown={(e) => {
+          if (e.key === "Enter") {
+            e.preventDefault();
+            commit();
+          }
+        }}
+      />
+      {error ? (
+        <span id={`${id}-err`} className="text-xs text-bad" role="alert">
+          {error}
+        </span>
+      ) : null}
+    </span>
   );
 }
 

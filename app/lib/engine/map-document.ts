@@ -115,6 +115,7 @@ export const PartNodeSchema = z
     value: text(40).optional(),
     package: text(40).optional(),
     fixes: z.array(FixSchema).max(50),
+    safetyNotes: text(4000).optional(),
   })
   .strict();
 
