@@ -12,6 +12,7 @@ import { audit } from "~/server/audit.server";
 import { can } from "~/lib/permissions";
 import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
+import { readFormWithin } from "~/server/form-body.server";
 import {
   draftDocument,
   getMapForShop,
@@ -27,6 +28,15 @@ import type { Route } from "./+types/map-editor";
 
 /** An imported file larger than this is refused before parsing (a 2000-node map is well under it). */
 export const MAX_IMPORT_BYTES = 2_000_000;
+const FORM_FIELDS_BYTES = 64_000;
+/**
+ * Most an editor request may carry on the wire: the import limit's worth of map text plus the other fields.
+ * A urlencoded form turns each quote, brace and newline of JSON into %XX, so it may take up to three times that.
+ */
+export function maxEditorBodyBytes(contentType: string | null) {
+  const multipart = (contentType ?? "").toLowerCase().startsWith("multipart/form-data");
+  return (multipart ? 1 : 3) * MAX_IMPORT_BYTES + FORM_FIELDS_BYTES;
+}
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { shop, role } = await requireMember(request, { permission: "view:maps" });
@@ -98,8 +108,13 @@ const refuse = (status: number, body: Omit<Refusal, "ok">) =>
 export async function action({ request, params }: Route.ActionArgs) {
   const { shop, user } = await requireMember(request, { permission: "edit:maps" });
   const map = await getMapForShop(shop.id, params.mapId);
-  const form = Object.fromEntries(await request.formData());
-  const parsed = ActionSchema.safeParse(form);
+  const body = await readFormWithin(
+    request,
+    maxEditorBodyBytes(request.headers.get("Content-Type")),
+    `the map editor takes at most ${MAX_IMPORT_BYTES / 1_000_000} MB of map data at a time`,
+  );
+  if (!body.ok) return refuse(body.status, { message: body.message });
+  const parsed = ActionSchema.safeParse(Object.fromEntries(body.form));
   if (!parsed.success)
     return refuse(400, { message: parsed.error.issues[0]?.message ?? "Not a valid request." });
   const input = parsed.data;
@@ -548,6 +563,7 @@ function ImportPanel({ mapId, revision }: { mapId: string; revision: number }) {
         <fetcher.Form
           method="post"
           action={`/maps/${mapId}`}
+          encType="multipart/form-data"
           className="flex flex-col gap-2 rounded-md border border-line p-3 text-sm"
         >
           <p data-testid="import-preview">

@@ -5,7 +5,9 @@ import type { MapChange } from "~/lib/map-changes";
 import { db } from "~/server/db.server";
 import { maps } from "~/server/schema.server";
 import { createShopWithRoles } from "../support/fixtures";
+import * as editor from "~/routes/map-editor";
 import { edge, load, newMap, part, post, puts, rail, save, src, validBase } from "../support/maps";
+import { call } from "../support/requests";
 
 type Shop = Awaited<ReturnType<typeof createShopWithRoles>>;
 
@@ -246,6 +248,33 @@ describe("the editor's save action and the engine's rules", () => {
     expect((await draftRow(mapId))!.draftRevision).toBe(0);
   });
 
+  it("saves a part's safety notes and a fix whose label was edited after it was added", async () => {
+    const shop = await createShopWithRoles();
+    const mapId = await freshMap(shop);
+    await save(mapId, shop.cookies.lead, 0, puts(validBase()));
+    const edited = {
+      ...(part("u1", "U1") as object),
+      fixes: [{ id: "replace", kind: "replace", label: "Replace U1 (check the input cap too)" }],
+      safetyNotes: "Disconnect the battery before hot air here.",
+    } as MapNode;
+    const r = await save(mapId, shop.cookies.lead, 1, [{ op: "put-node", node: edited }]);
+    expect(r.data).toEqual({ ok: true, revision: 2 });
+    const u1 = (await load(mapId, shop.cookies.lead)).data!.doc.nodes.find((n) => n.id === "u1");
+    expect(u1).toMatchObject({
+      safetyNotes: "Disconnect the battery before hot air here.",
+      fixes: [{ id: "replace", kind: "replace", label: "Replace U1 (check the input cap too)" }],
+    });
+    // An empty fix label or over-long notes are refused and leave the draft as it was.
+    for (const bad of [
+      { ...edited, fixes: [{ id: "replace", kind: "replace", label: "x".repeat(201) }] },
+      { ...edited, safetyNotes: "x".repeat(4001) },
+    ]) {
+      const refused = await save(mapId, shop.cookies.lead, 2, [{ op: "put-node", node: bad }]);
+      expect(refused.status).toBe(400);
+    }
+    expect((await draftRow(mapId))!.draftRevision).toBe(2);
+  });
+
   it("applies removals and updates by id", async () => {
     const shop = await createShopWithRoles();
     const mapId = await freshMap(shop);
@@ -310,5 +339,108 @@ describe("concurrency, roles and tenancy", () => {
     const r = await save(mapId, b.cookies.lead, 0, puts(validBase()));
     expect(r.status).toBe(404);
     expect((await draftRow(mapId))!.draftRevision).toBe(0);
+  });
+});
+
+describe("oversize request bodies", () => {
+  const url = (mapId: string) => `http://railwise.test/maps/${mapId}`;
+  /** A body that counts what the action pulls from it: `chunks` pieces of 64 kB. */
+  function countedStream(chunks: number) {
+    const seen = { bytes: 0 };
+    const piece = new TextEncoder().encode("x".repeat(64_000));
+    let left = chunks;
+    const stream = new ReadableStream<Uint8Array>(
+      {
+        pull(c) {
+          if (left-- <= 0) return c.close();
+          seen.bytes += piece.byteLength;
+          c.enqueue(piece);
+        },
+      },
+      { highWaterMark: 0 },
+    );
+    return { stream, seen };
+  }
+  const refusal = (r: { data?: unknown }) => r.data as { ok: boolean; message: string };
+
+  it("refuses a body whose Content-Length is over the limit before reading it, and writes nothing", async () => {
+    const shop = await createShopWithRoles();
+    const mapId = await freshMap(shop);
+    const limit = editor.maxEditorBodyBytes("application/x-www-form-urlencoded");
+    const { stream, seen } = countedStream(200);
+    const request = new Request(url(mapId), {
+      method: "POST",
+      body: stream,
+      duplex: "half",
+      headers: {
+        Cookie: shop.cookies.lead,
+        "Content-Type": "application/x-www-form-urlencoded",
+        "Content-Length": String(limit + 1),
+      },
+    } as RequestInit);
+    const r = await call(editor.action, { request, params: { mapId } });
+    expect(r.status).toBe(413);
+    expect(refusal(r).ok).toBe(false);
+    expect(refusal(r).message).toMatch(/at most 2 MB of map data.*Nothing was changed/);
+    expect(seen.bytes).toBe(0);
+    expect((await draftRow(mapId))!.draftRevision).toBe(0);
+  });
+
+  it("stops reading a chunked body (no Content-Length) once it passes the limit, and writes nothing", async () => {
+    const shop = await createShopWithRoles();
+    const mapId = await freshMap(shop);
+    const limit = editor.maxEditorBodyBytes("application/x-www-form-urlencoded");
+    // 20 MB offered; the action must give up soon after the limit rather than buffer it all.
+    const { stream, seen } = countedStream(Math.ceil(20_000_000 / 64_000));
+    const request = new Request(url(mapId), {
+      method: "POST",
+      body: stream,
+      duplex: "half",
+      headers: { Cookie: shop.cookies.lead, "Content-Type": "application/x-www-form-urlencoded" },
+    } as RequestInit);
+    expect(request.headers.get("Content-Length")).toBeNull();
+    const r = await call(editor.action, { request, params: { mapId } });
+    expect(r.status).toBe(413);
+    expect(refusal(r).message).toMatch(/Nothing was changed/);
+    expect(seen.bytes).toBeGreaterThan(limit);
+    expect(seen.bytes).toBeLessThanOrEqual(limit + 64_000);
+    expect((await draftRow(mapId))!.draftRevision).toBe(0);
+  });
+
+  it("refuses a multipart import over 2 MB by its length, and still imports a small one sent the same way", async () => {
+    const shop = await createShopWithRoles();
+    const mapId = await freshMap(shop);
+    const multipart = async (json: string) => {
+      const fd = new FormData();
+      fd.set("intent", "import");
+      fd.set("revision", "0");
+      fd.set("json", json);
+      const encoded = new Response(fd);
+      const bytes = new Uint8Array(await encoded.arrayBuffer());
+      return new Request(url(mapId), {
+        method: "POST",
+        body: bytes,
+        headers: {
+          Cookie: shop.cookies.lead,
+          "Content-Type": encoded.headers.get("Content-Type")!,
+          "Content-Length": String(bytes.byteLength),
+        },
+      });
+    };
+    const g = validBase();
+    const doc = { format: "railwise.map", version: 1, settings: { strategy: "best" }, ...g };
+    // A valid document padded past 2 MB with whitespace, which JSON allows between tokens.
+    const big = JSON.stringify(doc).replace("{", `{${" ".repeat(2_100_000)}`);
+    const tooBig = await call(editor.action, { request: await multipart(big), params: { mapId } });
+    expect(tooBig.status).toBe(413);
+    expect(refusal(tooBig).message).toMatch(/The request is 2\.\d MB; the map editor takes at most 2 MB/);
+    expect((await draftRow(mapId))!.draftRevision).toBe(0);
+
+    const ok = await call(editor.action, {
+      request: await multipart(JSON.stringify(doc)),
+      params: { mapId },
+    });
+    expect(ok.status).toBe(200);
+    expect((await draftRow(mapId))!.draftRevision).toBe(1);
   });
 });
