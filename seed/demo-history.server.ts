@@ -341,18 +341,23 @@ export function buildDemoHistory(now: number) {
       const fix = part.fixes[rng() < 0.7 || part.fixes.length === 1 ? 0 : 1] ?? part.fixes[0];
       // Stored as the walker stores it: the id of the map's fix (e.g. "replace", "check-en").
       fixKind = fix?.id ?? "other";
-      // A "check the series resistor" fix usually ends with that resistor replaced.
+      // Stored as the walker stores it: reference designators. A "check the series resistor" fix usually
+      // ends with that resistor replaced.
       partsUsed =
         fix?.kind === "replace"
-          ? [`${plan.board.doc.board?.boardNumber} ${partLabel(part)}`]
+          ? [part.refdes]
           : fix?.kind === "check-series-resistor"
-            ? [`${plan.board.doc.board?.boardNumber} ${seriesResistor(plan.board.doc, part)}`]
+            ? [seriesResistor(plan.board.doc, part).refdes]
             : [];
-      if (fix?.kind === "replace" && rng() < 0.15) partsUsed.push("Flux and solder wick");
+      // A draw that once added a consumable to replacements: kept, so every later draw (and so every count
+      // the tests pin) stays as it was.
+      if (fix?.kind === "replace") rng();
       lastFault.set(plan.serial, part.id);
     } else if (kind === "short") {
       fixKind = "replace";
-      partsUsed = [`Capacitor 0402 (${shorted.name})`];
+      // The shorted capacitor is the one the net is probed at, when its probe point names one ("C415 pad").
+      const cap = /^(C\d+)\b/.exec(shorted.probe.text)?.[1];
+      partsUsed = cap ? [cap] : [];
     }
     out.findings.push({
       id: `demo-finding-${n}`,
@@ -371,11 +376,7 @@ export function buildDemoHistory(now: number) {
   return out;
 }
 
-function partLabel(p: Part) {
-  return [p.refdes, p.value, p.package].filter(Boolean).join(" ");
-}
-
-function seriesResistor(doc: MapDocument, p: Part) {
+function seriesResistor(doc: MapDocument, p: Part): Part {
   // The resistor driving this part's enable input, when the map has one.
   const inputs = doc.edges.filter((e) => e.to === p.id && e.kind === "feeds").map((e) => e.from);
   const driver = doc.edges.find(
@@ -385,5 +386,5 @@ function seriesResistor(doc: MapDocument, p: Part) {
       doc.nodes.find((n) => n.id === e.from && n.kind === "part" && n.partType === "resistor"),
   );
   const r = driver ? (doc.nodes.find((n) => n.id === driver.from) as Part) : undefined;
-  return r ? partLabel(r) : partLabel(p);
+  return r ?? p;
 }

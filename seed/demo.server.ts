@@ -5,6 +5,7 @@ import { boards, maps, mapVersions, members, shops, users } from "../app/server/
 import { DEMO_BOARDS, DEMO_MEMBERS, DEMO_PASSWORD, DEMO_SHOP } from "./demo-data";
 import { seedDemoHistory } from "./demo-history.server";
 import { seedDemoJobs } from "./demo-jobs.server";
+import { seedDemoProbePhoto } from "./demo-photo.server";
 
 /**
  * The invented demo shop. Fixed ids make it idempotent: a second run inserts nothing and changes nothing.
@@ -63,6 +64,8 @@ export async function seedDemo(db: Db) {
         .onConflictDoNothing(),
     ),
   ]);
+  // The OM-5150 map's probe photo (its document points at it), stored as an editor upload would be.
+  await seedDemoProbePhoto(db);
   // Open jobs at the desk, then a few hundred past runs with findings so insights have something to show.
   await seedDemoJobs(db);
   await seedDemoHistory(db);

@@ -162,22 +162,58 @@ export const SAFETY_CAUTIONS: Record<string, Caution> = {
 export const LOCAL_CODES_LINE =
   "These cautions are reminders, not a safety programme: local codes, the equipment makers' instructions and licensed practice always come first.";
 
-/** Cautions relevant to a run: always ESD and adapters; battery when one is attached; rework ones by the fix done. */
+/** The fix kinds a map can list (the engine's FIX_KINDS, repeated here to keep zod out of the browser). */
+export type FixKind = "replace" | "reflow" | "clean-corrosion" | "check-series-resistor" | "other";
+
+// What each kind of work puts in front of the tech. "other" is left to the general cautions: the map's
+// label says what it is (e.g. reflashing firmware) and guessing a soldering job would only add noise.
+const FIX_CAUTIONS: Record<FixKind, string[]> = {
+  replace: ["hot-air", "solvents"],
+  reflow: ["hot-air", "solvents"],
+  "clean-corrosion": ["solvents", "ultrasonic"],
+  "check-series-resistor": ["hot-air"],
+  other: [],
+};
+const CAUTION_ORDER = ["battery", "hot-air", "solvents", "ultrasonic", "esd", "mains"];
+
+const isFixKind = (k: string): k is FixKind => Object.hasOwn(FIX_CAUTIONS, k);
+
+/**
+ * Cautions relevant to a run: always ESD and adapters; the battery when one is attached, when a reading was
+ * taken unpowered or when any fix was done (it comes off before rework); then the cautions of every fix.
+ */
 export function cautionsFor(input: {
   batteryAttached: boolean;
   resistanceReadings: boolean;
-  fixKind: string | null;
+  fixKinds: ReadonlyArray<string | null | undefined>;
 }): Caution[] {
+  const fixes = input.fixKinds.filter((k): k is FixKind => !!k && isFixKind(k));
   const ids = new Set<string>(["esd", "mains"]);
-  if (input.batteryAttached || input.resistanceReadings) ids.add("battery");
-  if (input.fixKind === "replace" || input.fixKind === "reflow" || input.fixKind === "check-series-resistor")
-    ids.add("hot-air");
-  if (input.fixKind === "clean-corrosion") {
-    ids.add("solvents");
-    ids.add("ultrasonic");
+  if (input.batteryAttached || input.resistanceReadings || fixes.length) ids.add("battery");
+  for (const k of fixes) for (const id of FIX_CAUTIONS[k]) ids.add(id);
+  return CAUTION_ORDER.filter((id) => ids.has(id)).map((id) => SAFETY_CAUTIONS[id]);
+}
+
+/**
+ * The kind of work behind each recorded fix of a run, in order. The walker stores the map's fix id; it is
+ * looked up in the part's fixes of that finding. A finding with parts used but no listed fix (a shorted net,
+ * whose part is found on the bench) counts as a replacement.
+ */
+export function fixKindsOfRun(
+  rows: ReadonlyArray<{
+    fixKind: string | null;
+    partsUsed: readonly string[];
+    part: { fixes: ReadonlyArray<{ id: string; kind: string }> } | null;
+  }>,
+): FixKind[] {
+  const out: FixKind[] = [];
+  for (const row of rows) {
+    const listed = row.fixKind ? row.part?.fixes.find((f) => f.id === row.fixKind)?.kind : undefined;
+    const kind = listed ?? row.fixKind ?? (row.partsUsed.length ? "replace" : null);
+    if (kind && isFixKind(kind)) out.push(kind);
+    else if (row.partsUsed.length) out.push("replace");
   }
-  if (input.fixKind === "reflow") ids.add("solvents");
-  return [...ids].map((id) => SAFETY_CAUTIONS[id]);
+  return out;
 }
 
 /** Parts used, typed as "R362, U402": reference designators, upper-cased, de-duplicated. */
@@ -194,8 +230,13 @@ export function parseRefdesList(
   return { ok: true, value: [...new Set(items.map((s) => s.toUpperCase()))] };
 }
 
-/** "learned from 1 past run" / "learned from 12 past runs" */
+/** Below this many ended runs on the version, priors widen (PRIOR_MIN_RUNS in app/server/priors.server.ts). */
+export const PRIORS_WIDEN_BELOW = 20;
+
+/** "Learned from N ended runs": N is the run count of app/server/priors.server.ts, said as it is counted. */
 export const learnedFromText = (n: number) =>
   n
-    ? `Learned from ${n} past run${n === 1 ? "" : "s"} with a finding on this board.`
-    : "No past findings on this board yet: every suspect weighs the same.";
+    ? `Learned from ${n} ended run${n === 1 ? "" : "s"} in this shop.`
+    : "No ended runs to learn from yet: every suspect weighs the same.";
+
+export const LEARNED_FROM_COUNTS = `Counted: runs that ended (fault isolated, no fault found, or closed) on this map version; while there are fewer than ${PRIORS_WIDEN_BELOW}, also those on the board's other map versions, then on other revisions of the same model. Open runs are not counted; a fix that left the board still dead counts as a run, not as a fault.`;

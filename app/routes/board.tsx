@@ -147,6 +147,8 @@ export default function BoardRoute({ loaderData, actionData }: Route.ComponentPr
   const { can } = useMember();
   const full = fullChargeVolts(board.batteryCells);
   const mapError = actionData && "error" in actionData ? (actionData.error as string) : null;
+  // A run needs a published version to pin; an archived board is kept for its history, not for new work.
+  const canRun = can("run:diagnosis") && versions.length > 0 && !board.archivedAt;
   return (
     <>
       <p className="mb-2 text-sm">
@@ -158,13 +160,22 @@ export default function BoardRoute({ loaderData, actionData }: Route.ComponentPr
         title={`${board.maker} ${board.model}`}
         subtitle={`Board ${board.boardNumber}${board.revision ? ` rev ${board.revision}` : ""}${board.archivedAt ? " · archived" : ""}`}
         actions={
-          can("edit:boards") ? (
-            <Form method="post">
-              <input type="hidden" name="intent" value={board.archivedAt ? "unarchive" : "archive"} />
-              <button type="submit" className="btn">
-                {board.archivedAt ? "Restore board" : "Archive board"}
-              </button>
-            </Form>
+          canRun || can("edit:boards") ? (
+            <>
+              {canRun ? (
+                <Link className="btn btn-primary" to={`/runs/new?boardId=${encodeURIComponent(board.id)}`}>
+                  Start a run
+                </Link>
+              ) : null}
+              {can("edit:boards") ? (
+                <Form method="post">
+                  <input type="hidden" name="intent" value={board.archivedAt ? "unarchive" : "archive"} />
+                  <button type="submit" className="btn">
+                    {board.archivedAt ? "Restore board" : "Archive board"}
+                  </button>
+                </Form>
+              ) : null}
+            </>
           ) : undefined
         }
       />
@@ -236,7 +247,9 @@ export default function BoardRoute({ loaderData, actionData }: Route.ComponentPr
         </section>
         <section className="card" aria-label="Versions">
           <h2 className="mb-3 font-semibold">Published versions</h2>
-          {versions.length === 0 ? <p className="text-sm text-muted">Nothing published yet.</p> : null}
+          {versions.length === 0 ? (
+            <p className="text-sm text-muted">Nothing published yet: runs start from a published version.</p>
+          ) : null}
           <ul className="flex flex-col gap-1 text-sm">
             {versions.map((v) => (
               <li key={v.id}>

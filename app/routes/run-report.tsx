@@ -2,6 +2,7 @@ import { Link } from "react-router";
 import {
   cautionsFor,
   CONDITION_LABELS,
+  fixKindsOfRun,
   LOCAL_CODES_LINE,
   OUTCOME_LABELS,
   STRATEGY_LABELS,
@@ -14,13 +15,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { shop } = await requireMember(request, { permission: "view:runs" });
   const view = await getRunView(shop.id, params.runId);
   if (!view) notFound("That run");
-  const lastFix = [...view.findingRows].reverse().find((f) => f.fixKind)?.fixKind ?? null;
-  const part = view.findingRows.at(-1)?.part;
-  const fixKind = part?.fixes.find((f) => f.id === lastFix)?.kind ?? lastFix;
+  // Every fix recorded in the run counts: a "still dead" round may have had hot air, the next one a clean.
   const cautions = cautionsFor({
     batteryAttached: view.run.condition !== "charger",
-    resistanceReadings: view.readings.some((r) => r.mode !== "voltage"),
-    fixKind,
+    resistanceReadings: view.readings.some((r) => r.mode !== "voltage" && !r.skipped),
+    fixKinds: fixKindsOfRun(view.findingRows),
   });
   return { view, cautions, printedAt: Date.now() };
 }

@@ -13,7 +13,11 @@ import { z } from "zod";
 import { endRunOnlyRevalidation, revalidateRunOnly } from "~/components/run-revalidation";
 import { can } from "~/lib/permissions";
 import {
+  type Caution,
   CONDITION_LABELS,
+  cautionsFor,
+  LEARNED_FROM_COUNTS,
+  LOCAL_CODES_LINE,
   learnedFromText,
   MODE_LABELS,
   OUTCOME_LABELS,
@@ -546,7 +550,12 @@ export default function RunRoute({ loaderData }: Route.ComponentProps) {
               onCancelCorrection={correcting ? () => setCorrecting(null) : undefined}
             />
           ) : view.finding ? (
-            <FindingCard view={view} canWrite={canWrite} canExtendMap={canExtendMap} />
+            <FindingCard
+              key={`${view.finding.nodeId ?? "none"}:${view.run.round}`}
+              view={view}
+              canWrite={canWrite}
+              canExtendMap={canExtendMap}
+            />
           ) : (
             <div className="card">
               <h2 className="text-lg font-semibold">No further check</h2>
@@ -704,17 +713,23 @@ function CheckCard({
         </div>
       </dl>
       {step.photo ? (
-        <figure className="relative max-w-md">
-          <img
-            src={`/uploads/${step.photo.uploadId}`}
-            alt={`Board photo: probe point for ${step.netName}`}
-            className="w-full rounded-md border border-line"
-          />
-          <span
-            aria-hidden="true"
-            className="absolute h-5 w-5 -translate-x-1/2 -translate-y-1/2 rounded-full border-4 border-accent"
-            style={{ left: `${step.photo.x * 100}%`, top: `${step.photo.y * 100}%` }}
-          />
+        <figure className="max-w-md" data-testid="probe-photo">
+          <div className="relative">
+            <img
+              src={`/uploads/${step.photo.uploadId}`}
+              alt={`Board photo: probe point for ${step.netName}`}
+              className="w-full rounded-md border border-line"
+            />
+            <span
+              aria-hidden="true"
+              data-testid="probe-marker"
+              className="absolute h-6 w-6 -translate-x-1/2 -translate-y-1/2 rounded-full border-4 border-accent shadow-[0_0_0_2px_white]"
+              style={{ left: `${step.photo.x * 100}%`, top: `${step.photo.y * 100}%` }}
+            />
+          </div>
+          <figcaption className="mt-1 text-xs text-muted">
+            The ring marks where to probe{step.probeText ? `: ${step.probeText}` : ""}.
+          </figcaption>
         </figure>
       ) : null}
       <p className="text-sm" data-testid="why">
@@ -818,6 +833,15 @@ function FindingCard({
   const errors = fetcher.data && !fetcher.data.ok ? fetcher.data : null;
   const nff = f.kind === "no-fault-found";
   const recorded = view.currentFinding?.outcome;
+  const fixes = f.part?.fixes ?? [];
+  const [fixId, setFixId] = useState<string>(fixes[0]?.id ?? "other");
+  // A net short lists no fixes: the work is finding and replacing the shorted part.
+  const fixKind = fixes.length ? (fixes.find((x) => x.id === fixId)?.kind ?? "other") : "replace";
+  const cautions = cautionsFor({
+    batteryAttached: view.run.condition !== "charger",
+    resistanceReadings: view.readings.some((r) => r.mode !== "voltage" && !r.skipped),
+    fixKinds: [fixKind],
+  });
   return (
     <section
       className={`card flex flex-col gap-4 border-l-4 ${nff ? "border-l-info" : "border-l-ok"}`}
@@ -896,6 +920,7 @@ function FindingCard({
                       name="fixId"
                       value={fix.id}
                       defaultChecked={i === 0}
+                      onChange={() => setFixId(fix.id)}
                       className="h-5 w-5"
                     />
                     <span className="flex-1">{fix.label}</span>
@@ -908,11 +933,18 @@ function FindingCard({
                 );
               })}
               <label className="flex min-h-12 items-center gap-3 rounded-md border border-line px-3 py-2">
-                <input type="radio" name="fixId" value="other" className="h-5 w-5" />
+                <input
+                  type="radio"
+                  name="fixId"
+                  value="other"
+                  onChange={() => setFixId("other")}
+                  className="h-5 w-5"
+                />
                 <span>Something else (say it in a note)</span>
               </label>
             </fieldset>
           ) : null}
+          {!nff ? <FixCautions cautions={cautions} /> : null}
           {!nff ? (
             <div className="flex flex-col gap-1">
               <label htmlFor="parts-used" className="text-sm font-medium">
@@ -967,6 +999,30 @@ function FindingCard({
           </button>
         </fetcher.Form>
       ) : null}
+    </section>
+  );
+}
+
+/** The cautions for the work picked in the finding card, kept short: the report prints them in full too. */
+function FixCautions({ cautions }: { cautions: Caution[] }) {
+  return (
+    <section
+      aria-labelledby="fix-cautions-title"
+      className="rounded-md border border-warn bg-warn-soft p-3 text-sm"
+      data-testid="fix-cautions"
+    >
+      <h3 id="fix-cautions-title" className="font-semibold">
+        Before this work
+      </h3>
+      <ul className="mt-1 flex flex-col gap-1">
+        {cautions.map((c) => (
+          <li key={c.id}>
+            <span className="font-medium">{c.title}: </span>
+            {c.text}
+          </li>
+        ))}
+      </ul>
+      <p className="mt-2 text-xs">{LOCAL_CODES_LINE}</p>
     </section>
   );
 }
@@ -1142,7 +1198,9 @@ function Suspects({ view }: { view: RunView }) {
         Suspects ({view.suspectCount})
       </h2>
       {view.run.strategy === "best" ? (
-        <p className="text-xs text-muted">{learnedFromText(view.learnedFrom)}</p>
+        <p className="text-xs text-muted" data-testid="learned-from">
+          {learnedFromText(view.learnedFrom)} <span className="block">{LEARNED_FROM_COUNTS}</span>
+        </p>
       ) : null}
       <ol className="mt-2 flex flex-col gap-1 text-sm" data-testid="suspects">
         {view.suspects.map((s) => (

@@ -1,4 +1,5 @@
 import type { Fix, MapDocument, MapEdge, MapNode, PartNode, Range, Stage } from "~/lib/engine";
+import { DEMO_PHOTO_ID, DEMO_PHOTO_MARKERS } from "../demo-photo-layout";
 
 // Demo map, invented: Orrin Computing "Marlow 15", board OM-5150 rev C (USB-C PD 20 V, 3-cell pack).
 
@@ -12,7 +13,16 @@ type NetOpts = {
   notes?: string;
   safety?: string;
   shared?: true;
+  /** Marker on the demo's probe photo (seed/demo-photo-layout.ts), 0..1 of the picture. */
+  photo?: { x: number; y: number };
 };
+
+const probe = (o: NetOpts, seconds: number) => ({
+  text: o.probe,
+  seconds: o.s ?? seconds,
+  needsDisassembly: o.open ?? false,
+  ...(o.photo ? { photo: { uploadId: DEMO_PHOTO_ID, ...o.photo } } : {}),
+});
 
 const rail = (id: string, name: string, nominalV: number, tolerancePct: number, o: NetOpts): MapNode => ({
   id,
@@ -21,7 +31,7 @@ const rail = (id: string, name: string, nominalV: number, tolerancePct: number, 
   nominalV,
   tolerancePct,
   expected: { voltage: o.v ?? { nominal: nominalV, tolerancePct }, ...(o.ohm ? { resistance: o.ohm } : {}) },
-  probe: { text: o.probe, seconds: o.s ?? 20, needsDisassembly: o.open ?? false },
+  probe: probe(o, 20),
   ...(o.stage ? { stage: o.stage } : {}),
   ...(o.shared ? { sharedDrivers: true as const } : {}),
   ...(o.notes ? { notes: o.notes } : {}),
@@ -34,7 +44,7 @@ const signal = (id: string, name: string, o: NetOpts): MapNode => ({
   name,
   highV: 3.3,
   expected: { voltage: o.v ?? { min: 2.9, max: 3.5 }, ...(o.ohm ? { resistance: o.ohm } : {}) },
-  probe: { text: o.probe, seconds: o.s ?? 25, needsDisassembly: o.open ?? false },
+  probe: probe(o, 25),
   ...(o.stage ? { stage: o.stage } : {}),
   ...(o.notes ? { notes: o.notes } : {}),
 });
@@ -143,6 +153,7 @@ const nodes: MapNode[] = [
     probe: "L401 output pad",
     s: 20,
     stage: "S5",
+    photo: DEMO_PHOTO_MARKERS["v5-stby"],
   }),
   signal("pg-5v-stby", "PG_5V_STBY", { probe: "TP41", stage: "S5" }),
   part("r-en3", "resistor", "R362", "3.3 V standby enable resistor", {
@@ -151,7 +162,12 @@ const nodes: MapNode[] = [
     fixes: [replace("Replace R362 (4K7)")],
     notes: "Series resistor from PG_5V_STBY to the 3.3 V standby enable.",
   }),
-  signal("en-3v3-stby", "EN_3V3_STBY", { ohm: { min: 8e3, max: 2e6 }, probe: "R362 pad 2", stage: "S5" }),
+  signal("en-3v3-stby", "EN_3V3_STBY", {
+    ohm: { min: 8e3, max: 2e6 },
+    probe: "R362 pad 2",
+    stage: "S5",
+    photo: DEMO_PHOTO_MARKERS["en-3v3-stby"],
+  }),
   part("u-3v3-stby", "regulator", "U402", "3.3 V standby buck", {
     package: "QFN-16",
     fixes: [
@@ -165,6 +181,7 @@ const nodes: MapNode[] = [
     probe: "C415 pad",
     s: 20,
     stage: "S5",
+    photo: DEMO_PHOTO_MARKERS["v3p3-stby"],
   }),
   signal("pg-3v3-stby", "PG_3V3_STBY", { probe: "TP42", stage: "S5" }),
   signal("pwr-req", "PWR_REQ", {
