@@ -50,7 +50,9 @@ describe("demo seed", () => {
     expect(file?.bytes.length).toBe(row.bytes);
     expect(createHash("sha256").update(file!.bytes).digest("hex")).toBe(row.sha256);
     const version = await db.select().from(mapVersions).where(eq(mapVersions.id, "demo-map-om5150-v1")).get();
-    const doc = version!.document as { nodes: Array<{ id: string; probe?: { photo?: { uploadId: string } } }> };
+    const doc = version!.document as {
+      nodes: Array<{ id: string; probe?: { photo?: { uploadId: string } } }>;
+    };
     const pointing = doc.nodes.filter((n) => n.probe?.photo?.uploadId === DEMO_PHOTO_ID).map((n) => n.id);
     expect(pointing.sort()).toEqual(["en-3v3-stby", "v3p3-stby", "v5-stby"]);
 
