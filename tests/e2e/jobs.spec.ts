@@ -190,6 +190,8 @@ async function seriousViolations(page: Page) {
 test("the job pages have no serious or critical accessibility violations, in both themes", async ({
   browser,
 }) => {
+  // Seven full axe passes: each takes seconds on a busy 2-core machine.
+  test.setTimeout(180_000);
   const desk = await as(browser, DEMO.desk);
   await desk.goto("/jobs/new");
   expect(await seriousViolations(desk)).toEqual([]);
