@@ -6,9 +6,16 @@ import { renderToPipeableStream } from "react-dom/server";
 import type { AppLoadContext, EntryContext } from "react-router";
 import { ServerRouter } from "react-router";
 import { NonceProvider } from "./components/nonce";
-import { securityHeaders } from "./server/security-headers.server";
+import { securityHeaders, transportHeaders } from "./server/security-headers.server";
 
 export const streamTimeout = 5_000;
+
+/** Client navigations fetch `.data` and skip handleRequest: they get nosniff and, behind https, HSTS here. */
+export function handleDataRequest(response: Response) {
+  response.headers.set("X-Content-Type-Options", "nosniff");
+  for (const [k, v] of Object.entries(transportHeaders())) response.headers.set(k, v);
+  return response;
+}
 
 export default function handleRequest(
   request: Request,

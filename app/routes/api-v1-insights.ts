@@ -3,12 +3,13 @@ import { requireApiMember } from "~/server/api-tokens.server";
 import { db } from "~/server/db.server";
 import { INSIGHT_TABLES, isInsightTable } from "~/server/insights-tables.server";
 import type { Route } from "./+types/api-v1-insights";
+import { withResourceHeaders } from "~/server/security-headers.server";
 
 // JSON of any insights table for the shop's own spreadsheets and scripts:
 //   GET /api/v1/insights/<table>?from=YYYY-MM-DD&to=…&board=…&tech=…&outcome=…
 //   Authorization: Bearer <personal API token from /settings/tokens>
 // Read-only and token-authenticated (cookies are ignored), so no CSRF surface.
-export async function loader({ request, params }: Route.LoaderArgs) {
+export const loader = withResourceHeaders(async function loader({ request, params }: Route.LoaderArgs) {
   const { shop } = await requireApiMember(request, { permission: "view:insights" });
   const headers = { "Cache-Control": "no-store" };
   if (!isInsightTable(params.table))
@@ -36,11 +37,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     },
     { headers },
   );
-}
+});
 
-export async function action() {
+export const action = withResourceHeaders(async function action() {
   return Response.json(
     { error: "The insights API is read-only: use GET." },
     { status: 405, headers: { Allow: "GET" } },
   );
-}
+});

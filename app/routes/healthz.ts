@@ -1,7 +1,8 @@
 import { sql } from "drizzle-orm";
 import { db } from "~/server/db.server";
+import { withResourceHeaders } from "~/server/security-headers.server";
 
-export async function loader() {
+export const loader = withResourceHeaders(async function loader() {
   try {
     await db.run(sql`select 1`);
     return Response.json({ ok: true, database: "reachable" }, { headers: { "Cache-Control": "no-store" } });
@@ -11,4 +12,4 @@ export async function loader() {
       { status: 503, headers: { "Cache-Control": "no-store" } },
     );
   }
-}
+});

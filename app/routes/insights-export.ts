@@ -3,10 +3,11 @@ import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
 import { INSIGHT_TABLES, isInsightTable, toCsv } from "~/server/insights-tables.server";
 import type { Route } from "./+types/insights-export";
+import { withResourceHeaders } from "~/server/security-headers.server";
 
 // CSV download of any insights table with the page's filters. GET only, so it changes nothing and needs no
 // origin check; cookie-authenticated like the pages.
-export async function loader({ request, params }: Route.LoaderArgs) {
+export const loader = withResourceHeaders(async function loader({ request, params }: Route.LoaderArgs) {
   const { shop } = await requireMember(request, { permission: "view:insights" });
   const name = params.table.replace(/\.csv$/, "");
   if (!isInsightTable(name))
@@ -24,4 +25,4 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       "X-Content-Type-Options": "nosniff",
     },
   });
-}
+});

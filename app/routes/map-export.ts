@@ -2,9 +2,10 @@ import { mapToJson } from "~/lib/engine";
 import { requireMember } from "~/server/auth.server";
 import { draftDocument, getMapForShop, getVersion } from "~/server/maps.server";
 import type { Route } from "./+types/map-export";
+import { withResourceHeaders } from "~/server/security-headers.server";
 
 /** Download of a published version (?version=N) or the draft, as our map JSON document. */
-export async function loader({ request, params }: Route.LoaderArgs) {
+export const loader = withResourceHeaders(async function loader({ request, params }: Route.LoaderArgs) {
   const { shop } = await requireMember(request, { permission: "view:maps" });
   const map = await getMapForShop(shop.id, params.mapId);
   const wanted = new URL(request.url).searchParams.get("version");
@@ -32,4 +33,4 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       "Cache-Control": "private, no-store",
     },
   });
-}
+});

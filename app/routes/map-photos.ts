@@ -14,10 +14,13 @@ import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
 import { newId } from "~/server/ids.server";
 import { getMapForShop } from "~/server/maps.server";
+import { assertSameOrigin } from "~/server/origin.server";
 import { uploads } from "~/server/schema.server";
 import { storage } from "~/server/storage.server";
 import { refuseImageSize } from "~/lib/image-dimensions";
+import { extensionMismatch } from "~/lib/upload-names";
 import type { Route } from "./+types/map-photos";
+import { withResourceHeaders } from "~/server/security-headers.server";
 
 export const MAX_PHOTO_BYTES = 5 * 1024 * 1024;
 // Only raster formats a browser shows inertly; SVG can carry script, so it is never accepted.
@@ -29,15 +32,16 @@ const ALLOWED = new Map([
 
 type Reply = { ok: true; uploadId: string } | { ok: false; message: string };
 
-/** Board photo upload for a probe point; the type comes from the file's bytes, never from its name. */
-export async function action({ request, params }: Route.ActionArgs) {
+/** Board photo upload for a probe point; the type comes from the file's bytes, and the name must agree with it. */
+export const action = withResourceHeaders(async function action({ request, params }: Route.ActionArgs) {
+  assertSameOrigin(request);
   const { shop, user } = await requireMember(request, { permission: "edit:maps" });
   const map = await getMapForShop(shop.id, params.mapId);
-  let received: { bytes: Uint8Array } | null = null;
+  let received: { bytes: Uint8Array; name: string } | null = null;
   try {
     await parseFormData(request, { maxFileSize: MAX_PHOTO_BYTES, maxFiles: 1 }, async (file: FileUpload) => {
       if (file.fieldName !== "photo") return null;
-      received = { bytes: new Uint8Array(await file.arrayBuffer()) };
+      received = { bytes: new Uint8Array(await file.arrayBuffer()), name: file.name };
       return null;
     });
   } catch (e) {
@@ -52,7 +56,7 @@ export async function action({ request, params }: Route.ActionArgs) {
       return data<Reply>({ ok: false, message: "The upload could not be read; try again." }, { status: 400 });
     throw e;
   }
-  const got = received as { bytes: Uint8Array } | null;
+  const got = received as { bytes: Uint8Array; name: string } | null;
   if (!got || got.bytes.length === 0)
     return data<Reply>({ ok: false, message: "Choose a photo to upload." }, { status: 400 });
   const sniffed = await fileTypeFromBuffer(got.bytes);
@@ -65,6 +69,8 @@ export async function action({ request, params }: Route.ActionArgs) {
       },
       { status: 415 },
     );
+  const misnamed = extensionMismatch(got.name, sniffed.mime);
+  if (misnamed) return data<Reply>({ ok: false, message: `${misnamed} Nothing was saved.` }, { status: 415 });
   // A tiny file claiming a huge canvas would stall every viewer that decodes it.
   const tooLarge = refuseImageSize(got.bytes, sniffed.mime);
   if (tooLarge) return data<Reply>({ ok: false, message: `${tooLarge} Nothing was saved.` }, { status: 422 });
@@ -90,4 +96,4 @@ export async function action({ request, params }: Route.ActionArgs) {
     data: { mapId: map.id },
   });
   return data<Reply>({ ok: true, uploadId: id });
-}
+});

@@ -3,8 +3,9 @@ import { assertSameOrigin } from "~/server/origin.server";
 import { listMemberships, requireUser } from "~/server/auth.server";
 import { switchSessionShop } from "~/server/session.server";
 import type { Route } from "./+types/switch-shop";
+import { withResourceHeaders } from "~/server/security-headers.server";
 
-export async function action({ request }: Route.ActionArgs) {
+export const action = withResourceHeaders(async function action({ request }: Route.ActionArgs) {
   assertSameOrigin(request);
   const { user, session } = await requireUser(request);
   const shopId = String((await request.formData()).get("shopId") ?? "");
@@ -13,8 +14,8 @@ export async function action({ request }: Route.ActionArgs) {
     throw new Response("You are not a member of that shop.", { status: 404 });
   await switchSessionShop(session.id, shopId);
   return redirect("/boards");
-}
+});
 
-export async function loader() {
+export const loader = withResourceHeaders(async function loader() {
   return redirect("/boards");
-}
+});

@@ -4,9 +4,10 @@ import { db } from "~/server/db.server";
 import { uploads } from "~/server/schema.server";
 import { storage } from "~/server/storage.server";
 import type { Route } from "./+types/upload-file";
+import { withResourceHeaders } from "~/server/security-headers.server";
 
 /** Serves an uploaded file to members of the shop that owns it, with its sniffed type and no sniffing by the browser. */
-export async function loader({ request, params }: Route.LoaderArgs) {
+export const loader = withResourceHeaders(async function loader({ request, params }: Route.LoaderArgs) {
   const { shop } = await requireMember(request);
   const row = await db
     .select()
@@ -26,4 +27,4 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       ETag: `"${row.sha256}"`,
     },
   });
-}
+});
