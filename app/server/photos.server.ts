@@ -9,6 +9,7 @@ import {
 import { fileTypeFromBuffer } from "file-type";
 import { PHOTO_MAX_BYTES } from "~/lib/customer-updates";
 import { refuseImageSize } from "~/lib/image-dimensions";
+import { extensionMismatch } from "~/lib/upload-names";
 import { newId } from "./ids.server";
 import type { uploads } from "./schema.server";
 import { storage } from "./storage.server";
@@ -22,7 +23,10 @@ const ALLOWED = new Set(["image/png", "image/jpeg", "image/webp"]);
 export type CheckedPhoto = { bytes: Uint8Array; type: string };
 export type PhotoCheck = ({ ok: true } & CheckedPhoto) | { ok: false; message: string };
 
-/** Sniffs the bytes (never trusting the browser's type): PNG, JPEG or WebP only, of a sane canvas size. */
+/**
+ * Sniffs the bytes (never trusting the browser's type): PNG, JPEG or WebP only, named with an extension of that
+ * type, of a sane canvas size.
+ */
 export async function checkPhoto(file: File): Promise<PhotoCheck> {
   if (file.size > PHOTO_MAX_BYTES) return { ok: false, message: `${file.name} is larger than 8 MB.` };
   const bytes = new Uint8Array(await file.arrayBuffer());
@@ -30,6 +34,8 @@ export async function checkPhoto(file: File): Promise<PhotoCheck> {
   if (!sniffed || !ALLOWED.has(sniffed.mime)) {
     return { ok: false, message: `${file.name} is not a PNG, JPEG or WebP photo.` };
   }
+  const misnamed = extensionMismatch(file.name, sniffed.mime);
+  if (misnamed) return { ok: false, message: misnamed };
   const tooLarge = refuseImageSize(bytes, sniffed.mime);
   if (tooLarge) return { ok: false, message: `${file.name}: ${tooLarge}` };
   return { ok: true, bytes, type: sniffed.mime };

@@ -23,6 +23,10 @@ const PNG_1PX = Buffer.from(
   "base64",
 );
 
+// The smallest JPEG header file-type recognises: SOI FF D8, a JFIF APP0 segment, a 1×1 SOF0 frame, EOI
+// (ITU-T T.81 §B.2; JFIF 1.02). It need not decode: only the bytes' type and claimed size are read.
+const JPEG_1PX = Buffer.from("ffd8ffe000104a46494600010100000100010000ffc0000b080001000101011100ffd9", "hex");
+
 function uploadRequest(mapId: string, cookie: string, bytes: Uint8Array, name: string, type: string) {
   const form = new FormData();
   form.append("photo", new File([bytes as BlobPart], name, { type }));
@@ -82,10 +86,50 @@ describe("probe-point photos", () => {
     expect(await db.select().from(uploads).where(eq(uploads.shopId, shop.shopId)).all()).toEqual([]);
   });
 
-  it("stores a real PNG named .txt with its sniffed type and sha256, and serves it only to its shop", async () => {
+  it.each([
+    ["notes.txt", "text/plain", /PNG image .*ends in \.txt; rename it to end in \.png/],
+    ["board.jpg", "image/jpeg", /PNG image .*ends in \.jpg/],
+    ["board", "image/png", /has no extension/],
+  ])(
+    "refuses a real PNG named %s (the name must agree with the bytes) and stores nothing",
+    async (name, type, message) => {
+      const { shop, mapId } = await setup();
+      const r = await call(photos.action, {
+        request: uploadRequest(mapId, shop.cookies.lead, PNG_1PX, name, type),
+        params: { mapId },
+      });
+      expect(r.status).toBe(415);
+      expect((r.data as { message: string }).message).toMatch(message);
+      expect((r.data as { message: string }).message).toMatch(/Nothing was saved/);
+      expect(await db.select().from(uploads).where(eq(uploads.shopId, shop.shopId)).all()).toEqual([]);
+    },
+  );
+
+  it.each(["c7.jpg", "c7.jpeg", "C7.JPG"])("stores a JPEG named %s", async (name) => {
     const { shop, mapId } = await setup();
     const r = await call(photos.action, {
-      request: uploadRequest(mapId, shop.cookies.lead, PNG_1PX, "notes.txt", "text/plain"),
+      request: uploadRequest(mapId, shop.cookies.lead, JPEG_1PX, name, "image/jpeg"),
+      params: { mapId },
+    });
+    expect(r.status).toBe(200);
+    const { uploadId } = r.data as { uploadId: string };
+    const row = await db.select().from(uploads).where(eq(uploads.id, uploadId)).get();
+    expect(row).toMatchObject({ contentType: "image/jpeg", bytes: JPEG_1PX.length });
+  });
+
+  it("refuses a post from another site before reading it", async () => {
+    const { shop, mapId } = await setup();
+    const request = uploadRequest(mapId, shop.cookies.lead, PNG_1PX, "board.png", "image/png");
+    request.headers.set("Origin", "https://elsewhere.example");
+    const r = await call(photos.action, { request, params: { mapId } });
+    expect(r.status).toBe(403);
+    expect(await db.select().from(uploads).where(eq(uploads.shopId, shop.shopId)).all()).toEqual([]);
+  });
+
+  it("stores a real PNG named .png with its sniffed type and sha256, and serves it only to its shop", async () => {
+    const { shop, mapId } = await setup();
+    const r = await call(photos.action, {
+      request: uploadRequest(mapId, shop.cookies.lead, PNG_1PX, "board.png", "application/octet-stream"),
       params: { mapId },
     });
     expect(r.status).toBe(200);
