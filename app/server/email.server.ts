@@ -21,7 +21,14 @@ export function listCapturedEmail(limit = 50) {
   return db.select().from(outbox).orderBy(desc(outbox.id)).limit(limit).all();
 }
 
+/**
+ * An absolute link for e-mail and the payment provider. Built from APP_URL whenever it is set (production
+ * requires it when mail is really sent); only while mail is captured, and so reaches nobody, does the
+ * request's own origin stand in.
+ */
 export function appUrl(request: Request, path: string) {
-  const base = env.APP_URL ?? new URL(request.url).origin;
-  return new URL(path, base).toString();
+  if (env.APP_URL) return new URL(path, env.APP_URL).toString();
+  if (!mailCaptureOn())
+    throw new Error("Set APP_URL: links in e-mail are never built from the request's Host header.");
+  return new URL(path, new URL(request.url).origin).toString();
 }

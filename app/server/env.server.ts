@@ -39,6 +39,14 @@ function readEnv(): Env {
       "Railwise cannot start: set SMTP_URL for outgoing e-mail in production (or MAIL_CAPTURE=1 for a local demo).",
     );
   }
+  // Reset, invitation and quote links are e-mailed: in production their host comes from APP_URL, never from
+  // the request, whose Host header the sender of a forged request chooses. Captured mail goes nowhere, so a
+  // local demo with MAIL_CAPTURE=1 may do without it.
+  if (env.NODE_ENV === "production" && env.MAIL_CAPTURE !== "1" && !env.APP_URL) {
+    throw new Error(
+      "Railwise cannot start: set APP_URL to the address members use (e.g. https://bench.example.com); links in e-mail are built from it.",
+    );
+  }
   return env;
 }
 
