@@ -1,6 +1,6 @@
-import { and, desc, eq, gt, isNull, sql } from "drizzle-orm";
+import { and, desc, eq, gt, isNull, or, type SQL, sql } from "drizzle-orm";
 import { db } from "./db.server";
-import { emailTokens, members, type Role, users } from "./schema.server";
+import { emailTokens, members, type Role, sessions, users } from "./schema.server";
 
 export function listMembers(shopId: string) {
   return db
@@ -66,7 +66,7 @@ export async function changeMember(
   const losesOwner = target.role === "owner" && ("remove" in change || change.role !== "owner");
   const result =
     "remove" in change
-      ? await db.delete(members).where(and(where, keepsAnOwner)).run()
+      ? await removeMember(target, and(where, keepsAnOwner)!)
       : await db
           .update(members)
           .set({ role: change.role })
@@ -74,4 +74,30 @@ export async function changeMember(
           .run();
   if (result.rowsAffected !== 1) return lastOwner;
   return { ok: true };
+}
+
+/**
+ * Removal ends the removed user's sessions that could still reach this shop. A session holds the shop it is
+ * working in (sessions.shop_id), so those are the sessions whose current shop is this one; sessions working in
+ * another shop of the same user stay, as this shop's owner has no say over them. Sessions without a shop of
+ * their own were working in the user's oldest membership, possibly this one, so they go too; and when this was
+ * the user's last membership, every session of theirs goes. Both deletes run in the same batch as the removal and only
+ * when the membership row is really gone (the last-owner rule may have kept it).
+ */
+async function removeMember(target: typeof members.$inferSelect, where: SQL) {
+  const gone = sql`not exists (select 1 from ${members} m where m.id = ${target.id})`;
+  const noMembershipLeft = sql`not exists (select 1 from ${members} m where m.user_id = ${target.userId})`;
+  const [removed] = await db.batch([
+    db.delete(members).where(where),
+    db
+      .delete(sessions)
+      .where(
+        and(
+          eq(sessions.userId, target.userId),
+          gone,
+          or(eq(sessions.shopId, target.shopId), isNull(sessions.shopId), noMembershipLeft),
+        ),
+      ),
+  ]);
+  return removed;
 }
