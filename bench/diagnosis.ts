@@ -181,6 +181,8 @@ console.log(
   `200-node map parsed afresh per request: with cacheKey p95 ${fmt(p95(reparsedCached200))} ms, without p95 ${fmt(p95(reparsedUncached200))} ms`,
 );
 console.log(`elapsed ${fmt((performance.now() - started) / 1000, 1)} s · seed ${seed}`);
+// The RESULT line keeps the agreed keys; the cold and re-parsed figures stand on the line before it.
+console.log(`also cold_ms_200=${fmt(p95(cold200))} reparsed_cached_ms_200=${fmt(p95(reparsedCached200))}`);
 console.log(
-  `RESULT best_vs_order=${fmt(mean(readings.best) / mean(readings.order))} best_vs_split=${fmt(mean(readings.best) / mean(readings.split))} best_vs_optimal=${fmt(mean(smallRatios))} best_vs_entropy=${fmt(mean(readings.best) / H)} split_vs_order=${fmt(mean(readings.split) / mean(readings.order))} correct_clean=${fmt(mean(correct.best))} correct_noisy=${fmt(mean(noisyCorrect))} next_ms_200=${fmt(p95(ms200))} cold_ms_200=${fmt(p95(cold200))} reparsed_cached_ms_200=${fmt(p95(reparsedCached200))}`,
+  `RESULT best_vs_order=${fmt(mean(readings.best) / mean(readings.order))} best_vs_split=${fmt(mean(readings.best) / mean(readings.split))} best_vs_optimal=${fmt(mean(smallRatios))} best_vs_entropy=${fmt(mean(readings.best) / H)} split_vs_order=${fmt(mean(readings.split) / mean(readings.order))} correct_clean=${fmt(mean(correct.best))} correct_noisy=${fmt(mean(noisyCorrect))} next_ms_200=${fmt(p95(ms200))}`,
 );
