@@ -103,3 +103,23 @@ export function filterQuery(f: InsightsFilter): string {
   if (f.outcome) p.set("outcome", f.outcome);
   return p.toString();
 }
+
+/**
+ * A chosen map version must be one of the shop's and, with a board chosen, that board's: otherwise it is reported
+ * beside its field and left out, as other bad filter values are.
+ */
+export function checkVersionFilter(
+  parsed: { filter: InsightsFilter; errors: Record<string, string> },
+  versions: ReadonlyArray<{ id: string; boardId: string }>,
+): { filter: InsightsFilter; errors: Record<string, string> } {
+  const { filter, errors } = parsed;
+  if (!filter.versionId) return parsed;
+  const version = versions.find((v) => v.id === filter.versionId);
+  const problem = !version
+    ? "That map version is not in this shop."
+    : filter.boardId && version.boardId !== filter.boardId
+      ? "That map version belongs to another board: pick one of this board's versions, or all versions."
+      : null;
+  if (!problem) return parsed;
+  return { filter: { ...filter, versionId: undefined }, errors: { ...errors, version: problem } };
+}

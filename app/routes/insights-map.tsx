@@ -36,8 +36,13 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     throw new Response(`This version's document cannot be drawn: ${doc.error.message}`, { status: 422 });
   await indexMissingVersionNodes(db, shop.id);
   const { filter, errors } = parseInsightsFilter(new URL(request.url).searchParams);
-  // Rates for this board across its versions (node ids are stable), within the page's other filters.
-  const boardFilter = { ...filter, boardId: version.board.id };
+  // Rates for this board across its versions (node ids are stable), within the page's other filters; with a
+  // version chosen, for the version this page draws.
+  const boardFilter = {
+    ...filter,
+    boardId: version.board.id,
+    versionId: filter.versionId ? version.id : undefined,
+  };
   const [choices, hotSpots] = await Promise.all([
     getFilterChoices(db, shop.id),
     getHotSpots(db, shop.id, boardFilter),
@@ -81,11 +86,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     choices,
     query: filterQuery(boardFilter),
     ranked: hotSpots.filter((h) => h.failures > 0).slice(0, 5),
+    thisVersion: { id: version.id, number: version.number },
   };
 }
 
 export default function InsightsMapRoute({ loaderData }: Route.ComponentProps) {
-  const { title, nodes, edges, filter, errors, choices, query, ranked } = loaderData;
+  const { title, nodes, edges, filter, errors, choices, query, ranked, thisVersion } = loaderData;
   return (
     <>
       <PageHeader
@@ -97,7 +103,7 @@ export default function InsightsMapRoute({ loaderData }: Route.ComponentProps) {
           </Link>
         }
       />
-      <InsightsFilterForm filter={filter} errors={errors} choices={choices} />
+      <InsightsFilterForm filter={filter} errors={errors} choices={choices} thisVersion={thisVersion} />
       <HeatMap nodes={nodes} edges={edges as Edge[]} title={`${title}, shaded by failure rate`} />
       {ranked.length ? (
         <section className="card mt-4" aria-labelledby="top-title">

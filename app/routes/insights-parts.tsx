@@ -2,7 +2,7 @@ import { createColumnHelper } from "@tanstack/react-table";
 import { CsvLink, InsightsFilterForm, InsightsTabs } from "~/components/insights/filter-form";
 import { DataTable } from "~/components/insights/data-table";
 import { PageHeader } from "~/components/page-header";
-import { filterQuery, parseInsightsFilter } from "~/lib/insights-filters";
+import { checkVersionFilter, filterQuery, parseInsightsFilter } from "~/lib/insights-filters";
 import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
 import { getFilterChoices, getPartsUsage, type PartsUsage } from "~/server/insights.server";
@@ -10,11 +10,12 @@ import type { Route } from "./+types/insights-parts";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { shop } = await requireMember(request, { permission: "view:insights" });
-  const { filter, errors } = parseInsightsFilter(new URL(request.url).searchParams);
-  const [choices, usage] = await Promise.all([
-    getFilterChoices(db, shop.id),
-    getPartsUsage(db, shop.id, filter),
-  ]);
+  const parsed = parseInsightsFilter(new URL(request.url).searchParams);
+  const choicesLoading = getFilterChoices(db, shop.id);
+  const { filter, errors } = parsed.filter.versionId
+    ? checkVersionFilter(parsed, (await choicesLoading).versions)
+    : parsed;
+  const [choices, usage] = await Promise.all([choicesLoading, getPartsUsage(db, shop.id, filter)]);
   return { filter, errors, choices, usage, query: filterQuery(filter) };
 }
 
@@ -23,8 +24,29 @@ type PartRow = PartsUsage["parts"][number];
 export default function InsightsPartsRoute({ loaderData }: Route.ComponentProps) {
   const { filter, errors, choices, usage, query } = loaderData;
   const h = createColumnHelper<PartRow>();
+  const dash = (v: string | null) => v ?? <span className="text-muted">—</span>;
   const columns = [
-    h.accessor("part", { header: "Part" }),
+    h.accessor("boardLabel", { header: "Board" }),
+    h.accessor("refdes", {
+      header: "Reference",
+      sortingFn: "alphanumeric",
+      cell: (c) => <span className="font-mono">{c.getValue()}</span>,
+    }),
+    h.accessor((row) => row.name, {
+      id: "name",
+      header: "Part",
+      cell: (c) => c.getValue() ?? <span className="text-muted">not on the map</span>,
+    }),
+    h.accessor((row) => row.value, {
+      id: "value",
+      header: "Value",
+      cell: (c) => <span className="font-mono">{dash(c.getValue())}</span>,
+    }),
+    h.accessor((row) => row.package, {
+      id: "package",
+      header: "Package",
+      cell: (c) => dash(c.getValue()),
+    }),
     ...usage.months.map((m, i) =>
       h.accessor((row) => row.perMonth[i], {
         id: m,
@@ -59,13 +81,15 @@ export default function InsightsPartsRoute({ loaderData }: Route.ComponentProps)
       <InsightsTabs query={query} />
       <InsightsFilterForm filter={filter} errors={errors} choices={choices} />
       <p className="mb-3 text-sm text-muted">
-        Forecast for {usage.nextMonth}: {usage.method} “Stock to hold” rounds the forecast up to whole parts.
-        Months are calendar months in UTC.
+        One row per board and reference designator, with the value and package its map gives, so the list can
+        be ordered from (a designator whose value changed between map versions gets a row per value). Forecast
+        for {usage.nextMonth}: {usage.method} “Stock to hold” rounds the forecast up to whole parts. Months
+        are calendar months in UTC.
       </p>
       <DataTable
         data={usage.parts}
         columns={columns}
-        caption="Parts used per month with next month's forecast"
+        caption="Parts used per board and reference designator, per month, with next month's forecast"
         initialHidden={hidden}
         initialSorting={[{ id: "forecast", desc: true }]}
         empty="No parts recorded in fixes in this range."

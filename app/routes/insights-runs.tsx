@@ -2,7 +2,12 @@ import { createColumnHelper } from "@tanstack/react-table";
 import { CsvLink, InsightsFilterForm, InsightsTabs } from "~/components/insights/filter-form";
 import { DataTable, pct } from "~/components/insights/data-table";
 import { PageHeader } from "~/components/page-header";
-import { filterQuery, parseInsightsFilter, REPEAT_WINDOW_DAYS } from "~/lib/insights-filters";
+import {
+  checkVersionFilter,
+  filterQuery,
+  parseInsightsFilter,
+  REPEAT_WINDOW_DAYS,
+} from "~/lib/insights-filters";
 import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
 import {
@@ -20,9 +25,13 @@ import type { Route } from "./+types/insights-runs";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { shop } = await requireMember(request, { permission: "view:insights" });
-  const { filter, errors } = parseInsightsFilter(new URL(request.url).searchParams);
+  const parsed = parseInsightsFilter(new URL(request.url).searchParams);
+  const choicesLoading = getFilterChoices(db, shop.id);
+  const { filter, errors } = parsed.filter.versionId
+    ? checkVersionFilter(parsed, (await choicesLoading).versions)
+    : parsed;
   const [choices, strategies, escalations, firstTimeFix, repeats] = await Promise.all([
-    getFilterChoices(db, shop.id),
+    choicesLoading,
     getStrategyStats(db, shop.id, filter),
     getEscalations(db, shop.id, filter),
     getFirstTimeFix(db, shop.id, filter),

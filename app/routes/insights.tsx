@@ -4,7 +4,7 @@ import { CsvLink, InsightsFilterForm, InsightsTabs } from "~/components/insights
 import { DataTable, pct } from "~/components/insights/data-table";
 import { HotSpotChart } from "~/components/insights/hot-spot-chart";
 import { EmptyState, PageHeader } from "~/components/page-header";
-import { filterQuery, parseInsightsFilter } from "~/lib/insights-filters";
+import { checkVersionFilter, filterQuery, parseInsightsFilter } from "~/lib/insights-filters";
 import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
 import { getFilterChoices, getHotSpots, type HotSpot } from "~/server/insights.server";
@@ -15,19 +15,25 @@ import type { Route } from "./+types/insights";
 // colleagues' runs are a review tool, and a technician's own runs are on the Runs page.
 export async function loader({ request }: Route.LoaderArgs) {
   const { shop } = await requireMember(request, { permission: "view:insights" });
-  const { filter, errors } = parseInsightsFilter(new URL(request.url).searchParams);
+  const parsed = parseInsightsFilter(new URL(request.url).searchParams);
   await indexMissingVersionNodes(db, shop.id);
-  const [choices, hotSpots] = await Promise.all([
-    getFilterChoices(db, shop.id),
-    getHotSpots(db, shop.id, filter),
-  ]);
+  const choicesLoading = getFilterChoices(db, shop.id);
+  // Only a chosen version waits for the choices (to be checked against them); otherwise all runs at once.
+  const { filter, errors } = parsed.filter.versionId
+    ? checkVersionFilter(parsed, (await choicesLoading).versions)
+    : parsed;
+  const [choices, hotSpots] = await Promise.all([choicesLoading, getHotSpots(db, shop.id, filter)]);
   return { filter, errors, choices, hotSpots, query: filterQuery(filter) };
 }
 
 export default function InsightsRoute({ loaderData }: Route.ComponentProps) {
   const { filter, errors, choices, hotSpots, query } = loaderData;
   const withFailures = hotSpots.filter((h) => h.failures > 0);
-  const versions = choices.versions.filter((v) => !filter.boardId || v.boardId === filter.boardId);
+  // The shaded maps of the chosen board, or of the chosen version only; each link carries the filters.
+  const versions = choices.versions.filter(
+    (v) =>
+      (!filter.boardId || v.boardId === filter.boardId) && (!filter.versionId || v.id === filter.versionId),
+  );
   const boardLabel = new Map(choices.boards.map((b) => [b.id, b.label]));
   return (
     <>

@@ -135,14 +135,22 @@ export const INSIGHT_TABLES = {
     const p = await getPartsUsage(db, shopId, f);
     return {
       columns: [
+        { key: "board", header: "Board" },
+        { key: "refdes", header: "Reference" },
         { key: "part", header: "Part" },
+        { key: "value", header: "Value" },
+        { key: "package", header: "Package" },
         ...p.months.map((m) => ({ key: m, header: m === p.runningMonth ? `${m} (so far)` : m })),
         { key: "total", header: "Total" },
         { key: "forecast", header: `Forecast ${p.nextMonth}` },
         { key: "stock", header: "Stock to hold" },
       ],
       rows: p.parts.map((x) => ({
-        part: x.part,
+        board: x.boardLabel,
+        refdes: x.refdes,
+        part: x.name,
+        value: x.value,
+        package: x.package,
         ...Object.fromEntries(p.months.map((m, i) => [m, x.perMonth[i]])),
         total: x.total,
         forecast: x.forecast,

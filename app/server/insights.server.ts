@@ -478,6 +478,21 @@ export async function getFirstTimeFix(db: Db, shopId: string, f: InsightsFilter)
 
 // --------------------------------------------------------------------------------------------------- parts
 
+export type PartToStock = {
+  boardId: string;
+  boardLabel: string;
+  /** Reference designator as the walker records it (upper case). */
+  refdes: string;
+  /** From the node of that designator in the map version the run used; null when the map has no such part. */
+  name: string | null;
+  value: string | null;
+  package: string | null;
+  perMonth: number[];
+  total: number;
+  forecast: number;
+  stock: number;
+};
+
 export type PartsUsage = {
   months: string[];
   /** The month the forecast is for: the one after the last complete month in the window. */
@@ -485,12 +500,15 @@ export type PartsUsage = {
   /** A month of the window that is still running (shown, not forecast from), if any. */
   runningMonth: string | null;
   method: string;
-  parts: Array<{ part: string; perMonth: number[]; total: number; forecast: number; stock: number }>;
+  parts: PartToStock[];
 };
 
 /**
- * Parts used in fixes (findings.parts_used, one entry per part fitted) per calendar month (UTC), with next
- * month's need forecast by simple exponential smoothing over every month of the window, empty months as 0.
+ * Parts used in fixes (findings.parts_used, one reference designator per part fitted) per calendar month
+ * (UTC), by board and designator, with the part's value and package from the map version each run used (a
+ * designator whose value or package changed between versions is a different part to order, so its own row).
+ * Next month's need is forecast by simple exponential smoothing over every month of the window, empty months
+ * as 0.
  */
 export async function getPartsUsage(
   db: Db,
@@ -498,47 +516,126 @@ export async function getPartsUsage(
   f: InsightsFilter,
   now = Date.now(),
 ): Promise<PartsUsage> {
-  // findings_parts walks the findings in (parts list, month) order: they are counted per distinct list and
-  // month first (no sort, no JSON per finding), and only those few groups are split into parts.
-  const rows = await db.all<{ month: string; part: string; qty: number }>(sql`
-    SELECT g.month, p.value AS part, SUM(g.n) AS qty
-    FROM (
-      SELECT fd.created_month AS month, fd.parts_used AS pu, COUNT(*) AS n
-      FROM findings fd
-      WHERE ${findingConditions(shopId, f, { inOrder: true })} AND fd.parts_used IS NOT NULL
-      GROUP BY fd.parts_used, fd.created_month
-    ) g, json_each(g.pu) p
-    WHERE json_valid(g.pu) AND p.type = 'text'
-    GROUP BY g.month, part
+  // findings_parts walks the findings in (parts list, month) order, so they are counted per distinct list and
+  // month with no sort and no JSON per finding. The map version of each finding rides along as a list (the
+  // version is not in that order, and sorting every finding by it costs more than splitting a few lists here).
+  const groups = await db.all<{
+    month: string;
+    pu: string;
+    n: number;
+    v0: string;
+    v1: string;
+    vs: string;
+  }>(sql`
+    SELECT fd.created_month AS month, fd.parts_used AS pu, COUNT(*) AS n,
+           MIN(fd.run_version_id) AS v0, MAX(fd.run_version_id) AS v1,
+           group_concat(fd.run_version_id, char(9)) AS vs
+    FROM findings fd
+    WHERE ${findingConditions(shopId, f, { inOrder: true })} AND fd.parts_used IS NOT NULL
+    GROUP BY fd.parts_used, fd.created_month
   `);
+  // Quantity per month, map version and reference designator.
+  const qty = new Map<string, { month: string; versionId: string; refdes: string; n: number }>();
+  for (const g of groups) {
+    let list: unknown;
+    try {
+      list = JSON.parse(g.pu);
+    } catch {
+      continue;
+    }
+    if (!Array.isArray(list)) continue;
+    const perVersion = new Map<string, number>();
+    if (g.v0 === g.v1) perVersion.set(g.v0, Number(g.n));
+    else for (const v of g.vs.split("\t")) perVersion.set(v, (perVersion.get(v) ?? 0) + 1);
+    for (const item of list) {
+      if (typeof item !== "string" || !item.trim()) continue;
+      const refdes = item.trim().toUpperCase();
+      for (const [versionId, n] of perVersion) {
+        const key = `${g.month}\u0000${versionId}\u0000${refdes}`;
+        const hit = qty.get(key);
+        if (hit) hit.n += n;
+        else qty.set(key, { month: g.month, versionId, refdes, n });
+      }
+    }
+  }
+  const versionIds = JSON.stringify([...new Set([...qty.values()].map((q) => q.versionId))]);
+  // The few versions named above: their board, and each part node's designator, value and package.
+  const [versionRows, partRows] = await Promise.all([
+    db.all<{ id: string; board_id: string; board_label: string }>(sql`
+      SELECT v.id, m.board_id,
+             b.board_number || CASE WHEN b.revision <> '' THEN ' rev ' || b.revision ELSE '' END AS board_label
+      FROM map_versions v JOIN maps m ON m.id = v.map_id JOIN boards b ON b.id = m.board_id
+      WHERE v.shop_id = ${shopId} AND v.id IN (SELECT value FROM json_each(${versionIds}))
+    `),
+    db.all<{
+      version_id: string;
+      refdes: string;
+      name: string | null;
+      value: string | null;
+      pkg: string | null;
+    }>(sql`
+      SELECT v.id AS version_id, upper(trim(json_extract(n.value, '$.refdes'))) AS refdes,
+             json_extract(n.value, '$.name') AS name, json_extract(n.value, '$.value') AS value,
+             json_extract(n.value, '$.package') AS pkg
+      FROM map_versions v, json_each(v.document, '$.nodes') n
+      WHERE v.shop_id = ${shopId} AND v.id IN (SELECT value FROM json_each(${versionIds}))
+        AND json_valid(v.document) AND json_extract(n.value, '$.kind') = 'part'
+        AND json_type(n.value, '$.refdes') = 'text'
+    `),
+  ]);
+  const versionOf = new Map(versionRows.map((v) => [v.id, v]));
+  const partOf = new Map<string, { name: string | null; value: string | null; pkg: string | null }>();
+  for (const p of partRows) {
+    const key = `${p.version_id}\u0000${p.refdes}`;
+    if (!partOf.has(key)) partOf.set(key, { name: p.name, value: p.value || null, pkg: p.pkg || null });
+  }
+
   const lastDay = new Date(f.toMs - DAY_MS).toISOString().slice(0, 10);
   const months = monthsBetween(f.from, lastDay);
   const index = new Map(months.map((m, i) => [m, i]));
-  const byPart = new Map<string, number[]>();
-  for (const r of rows) {
+  const byPart = new Map<string, Omit<PartToStock, "total" | "forecast" | "stock">>();
+  for (const r of qty.values()) {
     const i = index.get(r.month);
     if (i === undefined) continue;
-    let series = byPart.get(r.part);
-    if (!series) {
-      series = new Array(months.length).fill(0);
-      byPart.set(r.part, series);
+    const info = partOf.get(`${r.versionId}\u0000${r.refdes}`);
+    const version = versionOf.get(r.versionId);
+    const boardId = version?.board_id ?? "";
+    const key = JSON.stringify([boardId, r.refdes, info?.value ?? null, info?.pkg ?? null]);
+    let part = byPart.get(key);
+    if (!part) {
+      part = {
+        boardId,
+        boardLabel: version?.board_label ?? "Unknown board",
+        refdes: r.refdes,
+        name: info?.name ?? null,
+        value: info?.value ?? null,
+        package: info?.pkg ?? null,
+        perMonth: new Array(months.length).fill(0),
+      };
+      byPart.set(key, part);
     }
-    series[i] += Number(r.qty);
+    part.perMonth[i] += r.n;
   }
   // The month still running is shown but not forecast from: a half month would drag the forecast down.
   const running = new Date(now).toISOString().slice(0, 7);
   const complete = months.filter((m) => m < running).length;
-  const parts = [...byPart.entries()].map(([part, perMonth]) => {
-    const forecast = Math.round(smoothedForecast(perMonth.slice(0, complete)) * 100) / 100;
+  const parts = [...byPart.values()].map((p) => {
+    const forecast = Math.round(smoothedForecast(p.perMonth.slice(0, complete)) * 100) / 100;
     return {
-      part,
-      perMonth,
-      total: perMonth.reduce((s, x) => s + x, 0),
+      ...p,
+      total: p.perMonth.reduce((s, x) => s + x, 0),
       forecast,
       stock: stockToHold(forecast),
     };
   });
-  parts.sort((a, b) => b.forecast - a.forecast || b.total - a.total || a.part.localeCompare(b.part));
+  parts.sort(
+    (a, b) =>
+      b.forecast - a.forecast ||
+      b.total - a.total ||
+      a.boardLabel.localeCompare(b.boardLabel) ||
+      a.refdes.localeCompare(b.refdes, "en", { numeric: true }) ||
+      (a.value ?? "").localeCompare(b.value ?? ""),
+  );
   return {
     months,
     nextMonth: complete ? nextMonth(months[complete - 1]) : running,

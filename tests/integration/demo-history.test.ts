@@ -2,7 +2,7 @@ import { sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { parseInsightsFilter } from "~/lib/insights-filters";
 import { db } from "~/server/db.server";
-import { getEscalations, getHotSpots, getRepeatFailures } from "~/server/insights.server";
+import { getEscalations, getHotSpots, getPartsUsage, getRepeatFailures } from "~/server/insights.server";
 import { seedDemoHistory } from "../../seed/demo-history.server";
 import { seedDemo } from "../../seed/demo.server";
 
@@ -41,5 +41,17 @@ describe("demo history", () => {
     const rep = await getRepeatFailures(db, "demo-harbor", filter);
     expect(rep.repeats).toBeGreaterThan(0);
     expect(rep.list.every((r) => r.daysApart <= 30)).toBe(true);
+    // Parts are recorded as the walker records them (reference designators) and described from the map.
+    const parts = await getPartsUsage(db, "demo-harbor", filter);
+    expect(parts.parts.length).toBeGreaterThan(10);
+    expect(parts.parts.every((p) => /^[A-Z]{1,4}\d{1,5}[A-Z]?$/.test(p.refdes))).toBe(true);
+    expect(new Set(parts.parts.map((p) => p.boardLabel))).toEqual(
+      new Set(["OM-5150 rev C", "OM-5130 rev A"]),
+    );
+    expect(parts.parts.find((p) => p.boardLabel === "OM-5150 rev C" && p.refdes === "R362")).toMatchObject({
+      name: "3.3 V standby enable resistor",
+      value: "4K7",
+      package: "0201",
+    });
   });
 });

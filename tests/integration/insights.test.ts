@@ -20,8 +20,10 @@ import {
 } from "~/server/insights.server";
 import { toCsv } from "~/server/insights-tables.server";
 import { getFindingPriors } from "~/server/priors.server";
+import { newId } from "~/server/ids.server";
+import { findings, maps, mapVersions, runs } from "~/server/schema.server";
 import { createShopWithRoles } from "../support/fixtures";
-import { createInsightsFixture } from "../support/insights-fixture";
+import { at, createInsightsFixture, DOC_A } from "../support/insights-fixture";
 import { call, getRequest } from "../support/requests";
 
 // Every expected number below is counted by hand from tests/support/insights-fixture.ts.
@@ -181,11 +183,161 @@ describe("parts to stock", () => {
     expect(p.months).toEqual(["2026-01", "2026-02", "2026-03"]);
     expect(p.nextMonth).toBe("2026-04");
     // α = 0.5: [4,0,0] → 4, 2, 1; [2,0,0] → 0.5; [0,2,0] → 0, 1, 0.5 (Hyndman & Athanasopoulos, FPP3 §8.1).
+    const a = { boardId: fx.boardId, boardLabel: "FX-100 rev A" };
     expect(p.parts).toEqual([
-      { part: "U1 QFN-16", perMonth: [4, 0, 0], total: 4, forecast: 1, stock: 1 },
-      { part: "Cap 0402", perMonth: [2, 0, 0], total: 2, forecast: 0.5, stock: 1 },
-      { part: "U3 SOT-23", perMonth: [0, 2, 0], total: 2, forecast: 0.5, stock: 1 },
+      {
+        ...a,
+        refdes: "U1",
+        name: "Main buck",
+        value: "3 A buck",
+        package: "QFN-16",
+        perMonth: [4, 0, 0],
+        total: 4,
+        forecast: 1,
+        stock: 1,
+      },
+      // Fitted twice in one fix (A5); not a node of the map, so no value or package to show.
+      {
+        ...a,
+        refdes: "C12",
+        name: null,
+        value: null,
+        package: null,
+        perMonth: [2, 0, 0],
+        total: 2,
+        forecast: 0.5,
+        stock: 1,
+      },
+      {
+        ...a,
+        refdes: "U3",
+        name: "Aux switch",
+        value: null,
+        package: "SOT-23",
+        perMonth: [0, 2, 0],
+        total: 2,
+        forecast: 0.5,
+        stock: 1,
+      },
     ]);
+  });
+
+  it("groups by board and reference designator, so the same designator on two boards is two rows", async () => {
+    const p = await getPartsUsage(db, fx.shopId, filterOf(RANGE), Date.parse("2026-04-15"));
+    // Board 2 (FX-101 rev B): U7 in C1 and C2, C12 in C3; the 2025 run (U2) is outside the range.
+    expect(
+      p.parts.map((x) => [
+        x.boardLabel,
+        x.refdes,
+        x.value,
+        x.package,
+        x.perMonth.join(" "),
+        x.forecast,
+        x.stock,
+      ]),
+    ).toEqual([
+      ["FX-100 rev A", "U1", "3 A buck", "QFN-16", "4 0 0", 1, 1],
+      ["FX-100 rev A", "C12", null, null, "2 0 0", 0.5, 1],
+      ["FX-100 rev A", "U3", null, "SOT-23", "0 2 0", 0.5, 1],
+      ["FX-101 rev B", "U7", "3 A buck", "QFN-16", "2 0 0", 0.5, 1],
+      ["FX-101 rev B", "C12", null, null, "1 0 0", 0.25, 1],
+    ]);
+  });
+
+  it("keeps a designator whose value changed between map versions apart, counting each version's fixes", async () => {
+    // Its own shop: R5 is 4K7 in version 1 and 10K in version 2, fitted in the same month under both.
+    const shop = await createShopWithRoles("Parts Versions");
+    const mapId = newId();
+    await db.insert(maps).values({ id: mapId, shopId: shop.shopId, boardId: shop.boardId, name: "Power-up" });
+    const doc = (value: string) => ({
+      ...DOC_A,
+      nodes: [
+        ...DOC_A.nodes,
+        {
+          id: "r5",
+          kind: "part",
+          name: "Enable resistor",
+          partType: "resistor",
+          refdes: "R5",
+          value,
+          package: "0402",
+          fixes: [],
+        },
+      ],
+    });
+    const v = [newId(), newId()];
+    for (const [i, value] of ["4K7", "10K"].entries())
+      await db
+        .insert(mapVersions)
+        .values({ id: v[i], shopId: shop.shopId, mapId, number: i + 1, document: doc(value) });
+    // Version 1: two fixes with R5; version 2: three with R5 (one also with U1). All in February 2026.
+    const fixes: Array<[string, string[]]> = [
+      [v[0], ["R5"]],
+      [v[0], ["R5"]],
+      [v[1], ["R5"]],
+      [v[1], ["R5"]],
+      [v[1], ["r5", "U1"]],
+    ];
+    for (const [i, [version, parts]] of fixes.entries()) {
+      const runId = newId();
+      const started = at(`2026-02-${String(10 + i).padStart(2, "0")}`);
+      await db.insert(runs).values({
+        id: runId,
+        shopId: shop.shopId,
+        boardId: shop.boardId,
+        mapVersionId: version,
+        techId: shop.userIds.tech,
+        strategy: "order",
+        condition: { sourcesAttached: ["src-in"] },
+        status: "closed",
+        outcome: "powers-on",
+        startedAt: started,
+        closedAt: started,
+      });
+      await db.insert(findings).values({
+        id: newId(),
+        shopId: shop.shopId,
+        runId,
+        boardId: shop.boardId,
+        mapVersionId: version,
+        kind: "part",
+        nodeId: "r5",
+        fixKind: "replace",
+        partsUsed: parts,
+        outcome: "powers-on",
+        createdAt: started,
+      });
+    }
+    const p = await getPartsUsage(db, shop.shopId, filterOf(RANGE), Date.parse("2026-04-15"));
+    expect(p.parts.map((x) => [x.refdes, x.value, x.package, x.perMonth.join(" ")])).toEqual([
+      ["R5", "10K", "0402", "0 3 0"],
+      ["R5", "4K7", "0402", "0 2 0"],
+      ["U1", "3 A buck", "QFN-16", "0 1 0"],
+    ]);
+  });
+
+  it("exports the same rows as CSV, ready to order from", async () => {
+    const res = await call(exportRoute.loader, {
+      request: getRequest(`/insights/export/parts.csv?${RANGE}&board=${fx.boardId}`, fx.cookies.lead),
+      params: { table: "parts.csv" },
+    });
+    expect(res.status).toBe(200);
+    const rows = parse(await res.response!.text(), { columns: true }) as Array<Record<string, string>>;
+    expect(rows).toHaveLength(3);
+    expect(rows[0]).toEqual({
+      Board: "FX-100 rev A",
+      Reference: "U1",
+      Part: "Main buck",
+      Value: "3 A buck",
+      Package: "QFN-16",
+      "2026-01": "4",
+      "2026-02": "0",
+      "2026-03": "0",
+      Total: "4",
+      "Forecast 2026-04": "1",
+      "Stock to hold": "1",
+    });
+    expect(rows.map((r) => `${r.Reference} ${r.Package}`)).toEqual(["U1 QFN-16", "C12 ", "U3 SOT-23"]);
   });
 
   it("leaves the month still running out of the forecast", async () => {
@@ -197,7 +349,7 @@ describe("parts to stock", () => {
     );
     expect(p.runningMonth).toBe("2026-03");
     expect(p.nextMonth).toBe("2026-03");
-    expect(p.parts.find((x) => x.part === "U1 QFN-16")?.forecast).toBe(2);
+    expect(p.parts.find((x) => x.refdes === "U1")?.forecast).toBe(2);
   });
 });
 
@@ -263,6 +415,35 @@ describe("insights pages", () => {
       request: getRequest(`/insights?from=2026-13-45&outcome=exploded&board=${fx.boardId}`, fx.cookies.lead),
     });
     expect(Object.keys((bad.data as { errors: object }).errors).sort()).toEqual(["from", "outcome"]);
+  });
+
+  it("filters hot spots by one map version, and reports a version of another board or shop", async () => {
+    const load = async (q: string) =>
+      (await call(hotSpotsRoute.loader, { request: getRequest(`/insights?${RANGE}&${q}`, fx.cookies.lead) }))
+        .data as { hotSpots: HotSpot[]; errors: Record<string, string>; query: string };
+    // Version B: its 5 ended runs (B1–B5): u1 once (B1), u3 twice (B2, B3).
+    const b = await load(`board=${fx.boardId}&version=${fx.versions.B}`);
+    expect(b.errors).toEqual({});
+    expect(counts(b.hotSpots)).toEqual({
+      u3: "2/5",
+      u1: "1/5",
+      vin: "0/5",
+      v1: "0/5",
+      u2: "0/5",
+      v2: "0/5",
+      v3: "0/5",
+    });
+    // The query the page's links (tabs, shaded map, CSV) carry names the version.
+    expect(b.query).toContain(`version=${fx.versions.B}`);
+    const otherBoard = await load(`board=${fx.boardId}&version=${fx.versions.C}`);
+    expect(otherBoard.errors).toEqual({
+      version:
+        "That map version belongs to another board: pick one of this board's versions, or all versions.",
+    });
+    expect(otherBoard.hotSpots).toHaveLength(7);
+    expect(otherBoard.query).not.toContain("version=");
+    const unknown = await load("version=not-a-version");
+    expect(unknown.errors).toEqual({ version: "That map version is not in this shop." });
   });
 
   it("draws a version of the shop's own map and 404s another shop's", async () => {

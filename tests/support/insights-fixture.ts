@@ -6,9 +6,15 @@ import { createShopWithRoles } from "./fixtures";
 
 // A small, fully known history for the insights tests (expected counts are worked out in the test file).
 
-const node = (id: string, kind: "source" | "rail" | "part", name: string, refdes?: string) =>
+const node = (
+  id: string,
+  kind: "source" | "rail" | "part",
+  name: string,
+  refdes?: string,
+  extra: { value?: string; package?: string } = {},
+) =>
   kind === "part"
-    ? { id, kind, name, partType: "regulator", refdes: refdes ?? id.toUpperCase(), fixes: [] }
+    ? { id, kind, name, partType: "regulator", refdes: refdes ?? id.toUpperCase(), ...extra, fixes: [] }
     : kind === "rail"
       ? {
           id,
@@ -28,7 +34,7 @@ export const DOC_A = {
   nodes: [
     node("src-in", "source", "Adapter"),
     node("vin", "rail", "VIN"),
-    node("u1", "part", "Main buck", "U1"),
+    node("u1", "part", "Main buck", "U1", { value: "3 A buck", package: "QFN-16" }),
     node("v1", "rail", "V1"),
     node("u2", "part", "Core LDO", "U2"),
     node("v2", "rail", "V2"),
@@ -43,7 +49,11 @@ export const DOC_A = {
 };
 export const DOC_B = {
   ...DOC_A,
-  nodes: [...DOC_A.nodes, node("u3", "part", "Aux switch", "U3"), node("v3", "rail", "V3")],
+  nodes: [
+    ...DOC_A.nodes,
+    node("u3", "part", "Aux switch", "U3", { package: "SOT-23" }),
+    node("v3", "rail", "V3"),
+  ],
   edges: [
     ...DOC_A.edges,
     { id: "e6", from: "v1", to: "u3", kind: "feeds" },
@@ -53,7 +63,11 @@ export const DOC_B = {
 // Another revision of the same model, with its own ids but matching names.
 const DOC_C = {
   ...DOC_A,
-  nodes: [node("bin", "rail", "VIN"), node("bx", "part", "Main buck", "U7"), node("nv1", "rail", "V1")],
+  nodes: [
+    node("bin", "rail", "VIN"),
+    node("bx", "part", "Main buck", "U7", { value: "3 A buck", package: "QFN-16" }),
+    node("nv1", "rail", "V1"),
+  ],
   edges: [],
 };
 
@@ -179,7 +193,8 @@ export async function createInsightsFixture() {
     ...Array.from({ length: n }, (_, i) => ({ net: ["vin", "v1", "v1", "v2", "v2", "v2", "v2"][i] ?? "v2" })),
     ...extra,
   ];
-  const U1 = ["U1 QFN-16"];
+  // Parts as the walker records them: reference designators (C12 is on the board but not on the maps).
+  const U1 = ["U1"];
   // Version A, January 2026, by the technician, power-up order.
   await add("A1", {
     version: ids.A,
@@ -227,7 +242,7 @@ export async function createInsightsFixture() {
     tech: "tech",
     isolatedAfterMin: 10,
     readings: rd(7),
-    finding: { kind: "short", nodeId: "v1", fix: "replace", parts: ["Cap 0402", "Cap 0402"] },
+    finding: { kind: "short", nodeId: "v1", fix: "replace", parts: ["C12", "C12"] },
   });
   for (const [i, day] of ["2026-01-15", "2026-01-16", "2026-01-17", "2026-01-18", "2026-01-19"].entries())
     await add(`A${6 + i}`, {
@@ -254,7 +269,7 @@ export async function createInsightsFixture() {
     tech: "tech",
     isolatedAfterMin: 1,
     readings: rd(1),
-    finding: { kind: "part", nodeId: "u2", fix: "replace", parts: ["U2 SOT-23"] },
+    finding: { kind: "part", nodeId: "u2", fix: "replace", parts: ["U2"] },
   });
   // Version B, February 2026, by the lead, split strategy.
   await add("B1", {
@@ -275,7 +290,7 @@ export async function createInsightsFixture() {
     isolatedAfterMin: 4,
     readings: [{ net: "vin" }, { net: "v1" }, { net: "v3" }],
     escalateAfter: 1,
-    finding: { kind: "part", nodeId: "u3", fix: "replace", parts: ["U3 SOT-23"] },
+    finding: { kind: "part", nodeId: "u3", fix: "replace", parts: ["U3"] },
     serial: "SN-2",
   });
   await add("B3", {
@@ -285,7 +300,7 @@ export async function createInsightsFixture() {
     strategy: "split",
     isolatedAfterMin: 6,
     readings: rd(4),
-    finding: { kind: "part", nodeId: "u3", fix: "replace", parts: ["U3 SOT-23"] },
+    finding: { kind: "part", nodeId: "u3", fix: "replace", parts: ["U3"] },
     serial: "SN-3",
   });
   await add("B4", {
@@ -313,7 +328,7 @@ export async function createInsightsFixture() {
     day: "2026-01-05",
     tech: "tech",
     isolatedAfterMin: 5,
-    finding: { kind: "part", nodeId: "bx", fix: "replace", parts: ["U7 QFN-16"] },
+    finding: { kind: "part", nodeId: "bx", fix: "replace", parts: ["U7"] },
   });
   await add("C2", {
     version: ids.C,
@@ -321,7 +336,7 @@ export async function createInsightsFixture() {
     day: "2026-01-06",
     tech: "tech",
     isolatedAfterMin: 5,
-    finding: { kind: "part", nodeId: "bx", fix: "replace", parts: ["U7 QFN-16"] },
+    finding: { kind: "part", nodeId: "bx", fix: "replace", parts: ["U7"] },
   });
   await add("C3", {
     version: ids.C,
@@ -329,7 +344,7 @@ export async function createInsightsFixture() {
     day: "2026-01-07",
     tech: "tech",
     isolatedAfterMin: 5,
-    finding: { kind: "short", nodeId: "nv1", fix: "replace", parts: ["Cap 0402"] },
+    finding: { kind: "short", nodeId: "nv1", fix: "replace", parts: ["C12"] },
   });
   return { ...shop, board2, versions: ids, runIds };
 }

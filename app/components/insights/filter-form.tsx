@@ -1,21 +1,39 @@
+import { useEffect, useState } from "react";
 import { Form, NavLink } from "react-router";
 import { type InsightsFilter, OUTCOME_LABELS, OUTCOMES } from "~/lib/insights-filters";
 
 type Choices = {
   boards: Array<{ id: string; label: string }>;
+  versions: Array<{ id: string; number: number; boardId: string; mapName: string }>;
   techs: Array<{ id: string; name: string }>;
 };
 
-/** The GET filter form every insights page shares; bad values come back as messages beside their field. */
+/**
+ * The GET filter form every insights page shares; bad values come back as messages beside their field. The map
+ * version is picked per board (grouped by board, and narrowed to the chosen board once the script runs); a page
+ * that draws one version (`thisVersion`) offers "only this version" instead.
+ */
 export function InsightsFilterForm({
   filter,
   errors,
   choices,
+  thisVersion,
 }: {
   filter: InsightsFilter;
   errors: Record<string, string>;
   choices: Choices;
+  thisVersion?: { id: string; number: number };
 }) {
+  const [boardId, setBoardId] = useState(filter.boardId ?? "");
+  const [versionId, setVersionId] = useState(filter.versionId ?? "");
+  // A new filter arriving (a submit, back or forward) is what the fields show again.
+  useEffect(() => {
+    setBoardId(filter.boardId ?? "");
+    setVersionId(filter.versionId ?? "");
+  }, [filter.boardId, filter.versionId]);
+  const versionBoards = choices.boards
+    .map((b) => ({ ...b, versions: choices.versions.filter((v) => v.boardId === b.id) }))
+    .filter((b) => b.versions.length && (!boardId || b.id === boardId));
   const err = (name: string) =>
     errors[name] ? (
       <p id={`f-${name}-error`} className="text-xs text-bad">
@@ -61,7 +79,13 @@ export function InsightsFilterForm({
         <select
           id="f-board"
           name="board"
-          defaultValue={filter.boardId ?? ""}
+          value={boardId}
+          onChange={(e) => {
+            const next = e.currentTarget.value;
+            setBoardId(next);
+            // A version of another board would filter to nothing: let it go with the board.
+            if (next && choices.versions.find((v) => v.id === versionId)?.boardId !== next) setVersionId("");
+          }}
           className="field-input"
           {...aria("board")}
         >
@@ -74,6 +98,48 @@ export function InsightsFilterForm({
         </select>
         {err("board")}
       </div>
+      {thisVersion ? (
+        <div className="flex flex-col gap-1">
+          <span className="text-sm font-medium">Map version</span>
+          <label className="flex min-h-10 items-center gap-2 text-sm">
+            <input
+              type="checkbox"
+              name="version"
+              value={thisVersion.id}
+              defaultChecked={filter.versionId === thisVersion.id}
+              className="h-4 w-4"
+            />
+            Only runs on version {thisVersion.number}
+          </label>
+          {err("version")}
+        </div>
+      ) : (
+        <div className="flex flex-col gap-1">
+          <label htmlFor="f-version" className="text-sm font-medium">
+            Map version
+          </label>
+          <select
+            id="f-version"
+            name="version"
+            value={versionId}
+            onChange={(e) => setVersionId(e.currentTarget.value)}
+            className="field-input"
+            {...aria("version")}
+          >
+            <option value="">All versions</option>
+            {versionBoards.map((b) => (
+              <optgroup key={b.id} label={b.label}>
+                {b.versions.map((v) => (
+                  <option key={v.id} value={v.id}>
+                    {v.mapName} · version {v.number}
+                  </option>
+                ))}
+              </optgroup>
+            ))}
+          </select>
+          {err("version")}
+        </div>
+      )}
       <div className="flex flex-col gap-1">
         <label htmlFor="f-tech" className="text-sm font-medium">
           Technician
@@ -114,7 +180,6 @@ export function InsightsFilterForm({
         </select>
         {err("outcome")}
       </div>
-      {filter.versionId ? <input type="hidden" name="version" value={filter.versionId} /> : null}
       <button type="submit" className="btn btn-primary">
         Apply filters
       </button>
