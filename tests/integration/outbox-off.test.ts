@@ -11,4 +11,10 @@ describe("/dev/outbox", () => {
     const res = await call(outbox.loader, { request: getRequest("/dev/outbox") });
     expect(res.status).toBe(404);
   });
+
+  it("answers 404 for the JSON list too", async () => {
+    const outbox = await import("~/routes/dev-outbox-json");
+    const res = await call(outbox.loader, { request: getRequest("/dev/outbox.json") });
+    expect(res.status).toBe(404);
+  });
 });
