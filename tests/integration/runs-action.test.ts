@@ -2,6 +2,7 @@ import { eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { OM_5150_MAP } from "../../seed/maps/om-5150";
 import * as mapEditor from "~/routes/map-editor";
+import * as reportRoute from "~/routes/run-report";
 import { db } from "~/server/db.server";
 import { findings, notices, outbox, readings, runs } from "~/server/schema.server";
 import { simulateBoard } from "../support/bench-sim";
@@ -368,6 +369,24 @@ describe("finding, fix and outcome", () => {
       [1, "r-en3", "still-dead"],
       [2, "u-1v8", null],
     ]);
+
+    // The report's cautions come from every fix of the run: round 1's replacement (hot air, flux and
+    // solvent) still counts after round 2's "something else".
+    const closing = await postRun(shop.cookies.tech, runId, {
+      intent: "outcome",
+      round: "2",
+      fixId: "other",
+      partsUsed: "",
+      outcome: "powers-on",
+    });
+    expect(closing.status).toBe(302);
+    const report = await call(reportRoute.loader, {
+      request: getRequest(`/runs/${runId}/report`, shop.cookies.tech),
+      params: { runId },
+    });
+    expect(report.status).toBe(200);
+    const { cautions } = report.data as { cautions: Array<{ id: string }> };
+    expect(cautions.map((c) => c.id)).toEqual(["battery", "hot-air", "solvents", "esd", "mains"]);
   });
 
   it("uses past findings on the board as priors and says how many", async () => {
