@@ -7,7 +7,7 @@ import { z } from "zod";
 import { Field, FieldErrors } from "~/components/field";
 import { PageHeader } from "~/components/page-header";
 import { PHOTO_MAX_BYTES, PHOTO_MAX_FILES } from "~/lib/customer-updates";
-import { intakeTerms, UNCLAIMED_DAYS } from "~/lib/intake-terms";
+import { intakeTerms } from "~/lib/intake-terms";
 import { formatMoney, minorToInput, parseMoney } from "~/lib/money";
 import { requireMember } from "~/server/auth.server";
 import { sendStatusUpdate } from "~/server/customer-email.server";
@@ -71,6 +71,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     customers: customerList,
     warranty,
     defaultFee: minorToInput(DEFAULT_FEE_MINOR, shop.currency),
+    terms: intakeTerms(shop.name, shop.unclaimedDays),
   };
 }
 
@@ -199,7 +200,7 @@ export async function action({ request }: Route.ActionArgs) {
     accessories: v.accessories ?? "",
     complaint: v.complaint,
     diagnosticFeeMinor: chargeable && fee.ok ? fee.minor : 0,
-    unclaimedDays: UNCLAIMED_DAYS,
+    unclaimedDays: shop.unclaimedDays,
     passcode: v.passcode || undefined,
     warrantyOfJobId,
     chargeable,
@@ -230,7 +231,7 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function JobNewRoute({ loaderData, actionData }: Route.ComponentProps) {
-  const { shop, boards: boardList, customers: customerList, warranty, defaultFee } = loaderData;
+  const { shop, boards: boardList, customers: customerList, warranty, defaultFee, terms } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     id: "intake",
@@ -371,7 +372,7 @@ export default function JobNewRoute({ loaderData, actionData }: Route.ComponentP
         <section className="card flex flex-col gap-3">
           <h2 className="font-semibold">Terms</h2>
           <ul className="list-disc space-y-1 pl-5 text-sm">
-            {intakeTerms(shop.name).map((t) => (
+            {terms.map((t) => (
               <li key={t}>{t}</li>
             ))}
           </ul>

@@ -1,7 +1,7 @@
 import { getFormProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
-import { data, Form, useNavigation } from "react-router";
+import { and, eq, ne } from "drizzle-orm";
+import { data, Form, Link, useNavigation } from "react-router";
 import { Field, FieldErrors } from "~/components/field";
 import { PageHeader } from "~/components/page-header";
 import {
@@ -11,22 +11,39 @@ import {
   ROLE_VALUES,
   ShopSchema,
 } from "~/lib/auth-schemas";
-import { ROLE_LABELS } from "~/lib/permissions";
+import { can, ROLE_LABELS } from "~/lib/permissions";
+import { bpToPercent, CURRENCIES, LIMITS, ShopTermsSchema } from "~/lib/shop-settings";
 import { createEmailToken } from "~/server/accounts.server";
 import { audit } from "~/server/audit.server";
 import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
 import { appUrl, sendEmail } from "~/server/email.server";
 import { changeMember, listMembers, listPendingInvites } from "~/server/members.server";
-import { shops } from "~/server/schema.server";
+import { jobs, shops } from "~/server/schema.server";
 import { redirectWithToast } from "~/server/toast.server";
 import type { Route } from "./+types/settings";
 
 export async function loader({ request }: Route.LoaderArgs) {
-  const { shop, user } = await requireMember(request, { permission: "manage:shop" });
+  const { shop, user, role } = await requireMember(request, { permission: "manage:shop" });
   const [memberList, invites] = await Promise.all([listMembers(shop.id), listPendingInvites(shop.id)]);
-  return { shop: { id: shop.id, name: shop.name }, members: memberList, invites, me: user.id };
+  return {
+    shop: {
+      id: shop.id,
+      name: shop.name,
+      currency: shop.currency,
+      taxPercent: bpToPercent(shop.taxRateBp),
+      warrantyDays: shop.warrantyDays,
+      retentionDays: shop.retentionDays,
+      unclaimedDays: shop.unclaimedDays,
+    },
+    members: memberList,
+    invites,
+    me: user.id,
+    links: { meters: can(role, "edit:meters"), tokens: can(role, "manage:own-tokens") },
+  };
 }
+
+const TERM_COLUMNS = ["taxRateBp", "currency", "warrantyDays", "retentionDays", "unclaimedDays"] as const;
 
 export async function action({ request }: Route.ActionArgs) {
   const { shop, user } = await requireMember(request, { permission: "manage:shop" });
@@ -44,6 +61,48 @@ export async function action({ request }: Route.ActionArgs) {
       data: { name: submission.value.name },
     });
     return redirectWithToast("/settings", { kind: "success", message: "Shop name saved." });
+  }
+
+  if (intent === "shop-terms") {
+    const submission = parseWithZod(formData, { schema: ShopTermsSchema });
+    if (submission.status !== "success") return data({ intent, result: submission.reply() }, { status: 400 });
+    const { taxPercent, currency, warrantyDays, retentionDays, unclaimedDays } = submission.value;
+    const next = { taxRateBp: taxPercent, currency, warrantyDays, retentionDays, unclaimedDays };
+    const changes: Record<string, { from: string | number; to: string | number }> = {};
+    for (const key of TERM_COLUMNS) {
+      if (shop[key] !== next[key]) changes[key] = { from: shop[key], to: next[key] };
+    }
+    if (!Object.keys(changes).length) {
+      return redirectWithToast("/settings", { kind: "info", message: "Nothing changed." });
+    }
+    // Open jobs carry fees and quotes in the old currency's minor units; switching under them would misstate them.
+    if (changes.currency) {
+      const open = await db
+        .select({ id: jobs.id })
+        .from(jobs)
+        .where(and(eq(jobs.shopId, shop.id), ne(jobs.state, "closed")))
+        .all();
+      if (open.length) {
+        return data(
+          {
+            intent,
+            result: submission.reply({
+              fieldErrors: {
+                currency: [
+                  `${open.length} open job${open.length === 1 ? " is" : "s are"} billed in ${shop.currency}. Close ${open.length === 1 ? "it" : "them"} before changing the currency.`,
+                ],
+              },
+            }),
+          },
+          { status: 409 },
+        );
+      }
+    }
+    await db.batch([
+      db.update(shops).set(next).where(eq(shops.id, shop.id)),
+      audit({ shopId: shop.id, actorId: user.id, action: "shop.terms-changed", data: changes }),
+    ]);
+    return redirectWithToast("/settings", { kind: "success", message: "Money and terms saved." });
   }
 
   if (intent === "invite") {
@@ -109,8 +168,21 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function SettingsRoute({ loaderData, actionData }: Route.ComponentProps) {
-  const { shop, members, invites, me } = loaderData;
+  const { shop, members, invites, me, links } = loaderData;
   const navigation = useNavigation();
+  const [termsForm, termsFields] = useForm({
+    id: "shop-terms",
+    lastResult: actionData?.intent === "shop-terms" ? actionData.result : undefined,
+    defaultValue: {
+      taxPercent: shop.taxPercent,
+      currency: shop.currency,
+      warrantyDays: String(shop.warrantyDays),
+      retentionDays: String(shop.retentionDays),
+      unclaimedDays: String(shop.unclaimedDays),
+    },
+    shouldValidate: "onBlur",
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: ShopTermsSchema }),
+  });
   const [shopForm, shopFields] = useForm({
     id: "shop",
     lastResult: actionData?.intent === "shop" ? actionData.result : undefined,
@@ -129,7 +201,24 @@ export default function SettingsRoute({ loaderData, actionData }: Route.Componen
       : undefined;
   return (
     <>
-      <PageHeader title="Shop settings" subtitle="Your shop's name and who works in it." />
+      <PageHeader
+        title="Shop settings"
+        subtitle="Your shop's name, money and terms, and who works in it."
+        actions={
+          <>
+            {links.meters ? (
+              <Link to="/settings/meters" className="btn">
+                Meter profiles
+              </Link>
+            ) : null}
+            {links.tokens ? (
+              <Link to="/settings/tokens" className="btn">
+                API tokens
+              </Link>
+            ) : null}
+          </>
+        }
+      />
       <div className="grid gap-6 lg:grid-cols-2">
         <section className="card">
           <h2 className="mb-3 font-semibold">Shop</h2>
@@ -138,6 +227,59 @@ export default function SettingsRoute({ loaderData, actionData }: Route.Componen
             <Field label="Shop name" meta={shopFields.name} />
             <button type="submit" className="btn self-start">
               Save name
+            </button>
+          </Form>
+        </section>
+        <section className="card" aria-labelledby="terms-h">
+          <h2 id="terms-h" className="mb-1 font-semibold">
+            Money and terms
+          </h2>
+          <p className="mb-3 text-sm text-muted">
+            New quotes use this tax rate and currency; quotes and invoices already written keep theirs.
+          </p>
+          <Form method="post" {...getFormProps(termsForm)} className="flex flex-col gap-3">
+            <input type="hidden" name="intent" value="shop-terms" />
+            <div className="grid gap-3 sm:grid-cols-2">
+              <Field
+                label="Tax rate (%)"
+                meta={termsFields.taxPercent}
+                hint={`Added on a quote's subtotal; 0 to ${LIMITS.taxBp.max / 100}, up to two decimals (8.25).`}
+              />
+              <div className="flex flex-col gap-1">
+                <label htmlFor={termsFields.currency.id} className="text-sm font-medium">
+                  Currency
+                </label>
+                <select {...getSelectProps(termsFields.currency)} className="field-input">
+                  {CURRENCIES.map(([code, label]) => (
+                    <option key={code} value={code}>
+                      {code} · {label}
+                    </option>
+                  ))}
+                </select>
+                <FieldErrors id={termsFields.currency.errorId} errors={termsFields.currency.errors} />
+              </div>
+              <Field
+                label="Warranty on repairs (days)"
+                meta={termsFields.warrantyDays}
+                type="number"
+                hint={`A comeback within this time is free; ${LIMITS.warrantyDays.min} to ${LIMITS.warrantyDays.max}.`}
+              />
+              <Field
+                label="Unclaimed devices kept (days)"
+                meta={termsFields.unclaimedDays}
+                type="number"
+                hint={`Promised in the intake terms of new jobs; ${LIMITS.unclaimedDays.min} to ${LIMITS.unclaimedDays.max}.`}
+              />
+              <Field
+                label="Personal data kept after closing (days)"
+                meta={termsFields.retentionDays}
+                type="number"
+                hint={`Then erased by the daily task; ${LIMITS.retentionDays.min} to ${LIMITS.retentionDays.max}, and not shorter than the warranty.`}
+              />
+            </div>
+            <FieldErrors id={termsForm.errorId} errors={termsForm.errors} />
+            <button type="submit" className="btn btn-primary self-start">
+              Save money and terms
             </button>
           </Form>
         </section>
