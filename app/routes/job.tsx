@@ -13,19 +13,23 @@ import { requireMember } from "~/server/auth.server";
 import { sendQuoteEmail, sendStatusUpdate } from "~/server/customer-email.server";
 import { db } from "~/server/db.server";
 import { appUrl } from "~/server/email.server";
+import { newId } from "~/server/ids.server";
 import { listJobPhotos } from "~/server/job-photos.server";
 import {
   allowedMoves,
+  approvedQuoteWithoutInvoice,
   billingOf,
   getCustomer,
   getJob,
   listEvents,
   listTechs,
+  recordQuoteDecision,
   runsOfJob,
   transitionJob,
 } from "~/server/jobs.server";
 import { openPasscode } from "~/server/passcode.server";
 import {
+  counterPaymentByKey,
   createCheckout,
   PaymentsOffError,
   paymentsMode,
@@ -79,6 +83,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
         .all(),
     ]);
   const paymentList = invoice ? await paymentsOfInvoice(shop.id, invoice.id) : [];
+  // Newest first: the approved quote still waiting for its invoice, if any.
+  const owedQuote = invoice ? undefined : quoteList.find((q) => q.status === "approved" && q.totalMinor > 0);
   return {
     shop: { currency: shop.currency, taxRateBp: shop.taxRateBp, warrantyDays: shop.warrantyDays },
     job: {
@@ -142,6 +148,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       id: q.id,
       number: q.number,
       status: q.status,
+      currency: q.currency,
       subtotalMinor: q.subtotalMinor,
       taxMinor: q.taxMinor,
       totalMinor: q.totalMinor,
@@ -164,6 +171,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
           id: invoice.id,
           number: invoice.number,
           status: invoice.status,
+          currency: invoice.currency,
           totalMinor: invoice.totalMinor,
           paidMinor: invoice.paidMinor,
           refundedMinor: invoice.refundedMinor,
@@ -182,6 +190,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       at: (p.settledAt ?? p.createdAt).getTime(),
     })),
     billing,
+    owedQuote: owedQuote ? { number: owedQuote.number, totalMinor: owedQuote.totalMinor } : null,
     moves: allowedMoves(job, role).map((t) => ({ to: t.to, label: t.label })),
     techs,
     canRevealPasscode: !!job.passcodeSealed && job.assignedTo === user.id,
@@ -189,6 +198,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     original: original ? { id: original.id, number: original.number } : null,
     comebacks,
     onlinePayments: paymentsMode() !== "off",
+    counterKey: newId(),
     me: user.id,
   };
 }
@@ -199,6 +209,11 @@ const AmountSchema = z.object({ amount: z.string() });
 const CounterSchema = AmountSchema.extend({
   method: z.enum(["cash", "card-terminal"]),
   note: z.string().max(200).default(""),
+  // Drawn fresh with every page load (see the loader), so one form's submits share it.
+  idempotencyKey: z
+    .string()
+    .regex(/^[a-z2-7]{16,64}$/)
+    .optional(),
 });
 const RefundSchema = AmountSchema.extend({ paymentId: z.string() });
 const WaiveSchema = z.object({ reason: z.string().trim().min(3, "Say why the charge is waived.").max(300) });
@@ -217,7 +232,13 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (intent === "move") {
     const parsed = MoveSchema.safeParse(form);
     if (!parsed.success) return fail(intent, "Choose a state.");
-    const result = await transitionJob(job, parsed.data.to, { kind: "member", id: user.id, role });
+    const to = parsed.data.to;
+    const actor = { kind: "member" as const, id: user.id, role };
+    // The customer's answer given to the desk: the quote is decided and billed as on the approval page.
+    const result =
+      job.state === "awaiting-approval" && (to === "repairing" || to === "declined")
+        ? await recordQuoteDecision(shop, job, to === "repairing" ? "approved" : "declined", actor)
+        : await transitionJob(job, to, actor);
     if (!result.ok) return fail(intent, result.message, result.status);
     return redirectWithToast(back, {
       kind: "success",
@@ -343,6 +364,15 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (intent === "raise-invoice") {
     if (!can(role, "manage:payments")) return refuseRole();
     if (await currentInvoice(shop.id, job.id)) return fail(intent, "This job already has an invoice.", 409);
+    // An approved quote whose invoice was never raised is what the customer owes, before any fee alone.
+    const approved = await approvedQuoteWithoutInvoice(job);
+    if (approved) {
+      await raiseInvoice(shop, job.id, { quote: approved });
+      return redirectWithToast(back, {
+        kind: "success",
+        message: `Invoice raised from the approved quote ${approved.number}.`,
+      });
+    }
     if (!job.chargeable) return fail(intent, "Warranty work is free of charge.", 409);
     await raiseInvoice(shop, job.id, { diagnosticFeeMinor: job.diagnosticFeeMinor });
     return redirectWithToast(back, { kind: "success", message: "Invoice for the diagnostic fee raised." });
@@ -350,6 +380,12 @@ export async function action({ request, params }: Route.ActionArgs) {
 
   if (intent === "counter-payment" || intent === "online-payment") {
     if (!can(role, "manage:payments")) return refuseRole();
+    // A second submit of the same counter form (double click, resent request) records nothing more.
+    const key =
+      intent === "counter-payment" ? CounterSchema.shape.idempotencyKey.safeParse(form.idempotencyKey) : null;
+    if (key?.success && key.data && (await counterPaymentByKey(shop.id, key.data))) {
+      return redirectWithToast(back, { kind: "info", message: "That payment was already recorded." });
+    }
     const invoice = await currentInvoice(shop.id, job.id);
     if (!invoice)
       return fail(intent, "Raise an invoice first (approve a quote or bill the diagnostic fee).", 409);
@@ -367,17 +403,20 @@ export async function action({ request, params }: Route.ActionArgs) {
     if (intent === "counter-payment") {
       const parsed = CounterSchema.safeParse(form);
       if (!parsed.success) return fail(intent, "Choose cash or card terminal.");
-      await recordCounterPayment({
+      const recorded = await recordCounterPayment({
         shopId: shop.id,
         invoice,
         amountMinor: amount.minor,
         method: parsed.data.method,
         note: parsed.data.note,
         actorId: user.id,
+        idempotencyKey: parsed.data.idempotencyKey,
       });
       return redirectWithToast(back, {
-        kind: "success",
-        message: `${formatMoney(amount.minor, invoice.currency)} recorded.`,
+        kind: recorded.duplicate ? "info" : "success",
+        message: recorded.duplicate
+          ? "That payment was already recorded."
+          : `${formatMoney(amount.minor, invoice.currency)} recorded.`,
       });
     }
     const customer = await getCustomer(shop.id, job.customerId);
@@ -416,7 +455,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     if (!result.ok) return fail(intent, result.message);
     return redirectWithToast(back, {
       kind: "success",
-      message: `Refund of ${formatMoney(amount.minor, shop.currency)} made.`,
+      message: `Refund of ${formatMoney(amount.minor, invoice?.currency ?? shop.currency)} made.`,
     });
   }
 
@@ -788,8 +827,8 @@ function QuotesCard({ d, canEdit }: { d: D; canEdit: boolean }) {
                     <span className="text-muted">{l.kind}</span> {l.description}
                   </td>
                   <td className="py-1 text-right font-mono">{l.quantity}</td>
-                  <td className="py-1 text-right font-mono">{formatMoney(l.unitMinor, d.shop.currency)}</td>
-                  <td className="py-1 text-right font-mono">{formatMoney(l.totalMinor, d.shop.currency)}</td>
+                  <td className="py-1 text-right font-mono">{formatMoney(l.unitMinor, q.currency)}</td>
+                  <td className="py-1 text-right font-mono">{formatMoney(l.totalMinor, q.currency)}</td>
                 </tr>
               ))}
             </tbody>
@@ -798,21 +837,19 @@ function QuotesCard({ d, canEdit }: { d: D; canEdit: boolean }) {
                 <td colSpan={3} className="py-1 text-right font-sans text-muted">
                   Subtotal
                 </td>
-                <td className="py-1 text-right">{formatMoney(q.subtotalMinor, d.shop.currency)}</td>
+                <td className="py-1 text-right">{formatMoney(q.subtotalMinor, q.currency)}</td>
               </tr>
               <tr>
                 <td colSpan={3} className="py-1 text-right font-sans text-muted">
                   Tax {formatRate(q.taxRateBp)}
                 </td>
-                <td className="py-1 text-right">{formatMoney(q.taxMinor, d.shop.currency)}</td>
+                <td className="py-1 text-right">{formatMoney(q.taxMinor, q.currency)}</td>
               </tr>
               <tr>
                 <td colSpan={3} className="py-1 text-right font-sans font-medium">
                   Total
                 </td>
-                <td className="py-1 text-right font-semibold">
-                  {formatMoney(q.totalMinor, d.shop.currency)}
-                </td>
+                <td className="py-1 text-right font-semibold">{formatMoney(q.totalMinor, q.currency)}</td>
               </tr>
             </tfoot>
           </table>
@@ -880,7 +917,7 @@ function BillingCard({ d }: { d: D }) {
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
   const inv = d.invoice;
-  const cur = d.shop.currency;
+  const cur = inv?.currency ?? d.shop.currency;
   const err = (intent: string) =>
     actionData && !actionData.ok && actionData.intent === intent ? [actionData.message] : undefined;
   return (
@@ -888,7 +925,23 @@ function BillingCard({ d }: { d: D }) {
       <h2 id="billing-h" className="mb-2 font-semibold">
         Invoice and payments
       </h2>
-      {!inv ? (
+      {!inv && d.owedQuote ? (
+        <>
+          <p className="text-sm">
+            Quote {d.owedQuote.number} was approved ({formatMoney(d.owedQuote.totalMinor, cur)}) but has no
+            invoice yet; the job cannot close until it is paid or waived.
+          </p>
+          {may("manage:payments") ? (
+            <Form method="post" className="mt-2">
+              <input type="hidden" name="intent" value="raise-invoice" />
+              <button type="submit" className="btn btn-primary px-3 py-1">
+                Raise the invoice from quote {d.owedQuote.number}
+              </button>
+            </Form>
+          ) : null}
+          <FieldErrors errors={err("raise-invoice")} />
+        </>
+      ) : !inv ? (
         <>
           <p className="text-sm text-muted">
             {d.job.chargeable
@@ -952,6 +1005,7 @@ function BillingCard({ d }: { d: D }) {
             <div className="mt-3 flex flex-col gap-3 border-t border-line pt-3">
               <Form method="post" className="flex flex-wrap items-end gap-2">
                 <input type="hidden" name="intent" value="counter-payment" />
+                <input type="hidden" name="idempotencyKey" value={d.counterKey} />
                 <div className="flex flex-col gap-1">
                   <label htmlFor="counter-amount" className="text-sm font-medium">
                     Taken at the counter

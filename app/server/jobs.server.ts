@@ -1,4 +1,4 @@
-import { and, asc, desc, eq, inArray, ne, sql } from "drizzle-orm";
+import { and, asc, desc, eq, gt, inArray, ne, sql } from "drizzle-orm";
 import {
   type Actor,
   type Billing,
@@ -11,6 +11,7 @@ import { audit } from "./audit.server";
 import { db } from "./db.server";
 import { newId } from "./ids.server";
 import { sealPasscode } from "./passcode.server";
+import { currentInvoice, raiseInvoice } from "./quotes.server";
 // Starts the daily retention task in a running server (see tasks.server.ts).
 import "./tasks.server";
 import {
@@ -23,6 +24,7 @@ import {
   jobs,
   mapVersions,
   members,
+  quotes,
   runs,
   type shops,
   users,
@@ -112,7 +114,10 @@ export async function createJob(shopId: string, actorId: string, input: IntakeIn
   return job;
 }
 
-/** How closing sees the job's money: the latest invoice that is not void, or nothing owed. */
+/**
+ * How closing sees the job's money: the latest invoice that is not void. With none, an approved quote is
+ * still owed (its invoice was not raised), and so is a chargeable diagnostic fee; otherwise nothing is owed.
+ */
 export async function billingOf(job: Job): Promise<Billing> {
   const invoice = await db
     .select()
@@ -120,9 +125,102 @@ export async function billingOf(job: Job): Promise<Billing> {
     .where(and(eq(invoices.shopId, job.shopId), eq(invoices.jobId, job.id), ne(invoices.status, "void")))
     .orderBy(desc(invoices.createdAt))
     .get();
-  if (!invoice) return !job.chargeable || job.diagnosticFeeMinor === 0 ? "nothing-owed" : "unpaid";
+  if (!invoice) {
+    if (await approvedQuoteWithoutInvoice(job)) return "unpaid";
+    return !job.chargeable || job.diagnosticFeeMinor === 0 ? "nothing-owed" : "unpaid";
+  }
   if (invoice.totalMinor === 0) return "nothing-owed";
   return invoice.status === "paid" ? "paid" : "unpaid";
+}
+
+/** The job's newest approved quote with something to pay, when no invoice (not void) stands for the job. */
+export async function approvedQuoteWithoutInvoice(job: Job) {
+  const invoiced = await db
+    .select({ id: invoices.id })
+    .from(invoices)
+    .where(and(eq(invoices.shopId, job.shopId), eq(invoices.jobId, job.id), ne(invoices.status, "void")))
+    .get();
+  if (invoiced) return undefined;
+  return db
+    .select()
+    .from(quotes)
+    .where(
+      and(
+        eq(quotes.shopId, job.shopId),
+        eq(quotes.jobId, job.id),
+        eq(quotes.status, "approved"),
+        gt(quotes.totalMinor, 0),
+      ),
+    )
+    .orderBy(desc(quotes.number))
+    .get();
+}
+
+/** The quote a customer's answer is about: the job's newest one not yet decided. */
+export function undecidedQuote(job: Job) {
+  return db
+    .select()
+    .from(quotes)
+    .where(
+      and(eq(quotes.shopId, job.shopId), eq(quotes.jobId, job.id), inArray(quotes.status, ["draft", "sent"])),
+    )
+    .orderBy(desc(quotes.number))
+    .get();
+}
+
+/**
+ * The desk records the customer's answer itself (by phone, at the counter): the job moves, the quote is marked
+ * decided, and the money follows as on the approval page: an approval raises the invoice from the quote, a
+ * decline bills the diagnostic fee. A chargeable job is approved only against a quote, so a repair always
+ * leaves something to pay or an owner's waiver.
+ */
+export async function recordQuoteDecision(
+  shop: Pick<Shop, "id" | "currency" | "taxRateBp">,
+  job: Job,
+  decision: "approved" | "declined",
+  actor: { kind: "member"; id: string; role: Actor },
+): Promise<TransitionResult> {
+  const quote = await undecidedQuote(job);
+  if (decision === "approved" && !quote && job.chargeable) {
+    return {
+      ok: false,
+      status: 409,
+      message: "Build the quote the customer approved first: approving it raises the invoice.",
+    };
+  }
+  const moved = await transitionJob(
+    job,
+    decision === "approved" ? "repairing" : "declined",
+    actor,
+    quote
+      ? `Quote ${quote.number} ${decision} (recorded by the shop)`
+      : `Customer ${decision} (recorded by the shop)`,
+  );
+  if (!moved.ok) return moved;
+  if (quote) {
+    await db.batch([
+      db
+        .update(quotes)
+        .set({ status: decision, decidedAt: new Date() })
+        .where(and(eq(quotes.shopId, job.shopId), eq(quotes.id, quote.id), eq(quotes.status, quote.status))),
+      db.insert(auditEvents).values({
+        shopId: job.shopId,
+        actorId: actor.id,
+        action: `quote.${decision}`,
+        subject: quote.id,
+        data: { by: "member" },
+      }),
+    ]);
+  }
+  if (decision === "approved" && quote) await raiseInvoice(shop, job.id, { quote });
+  else if (
+    decision === "declined" &&
+    job.chargeable &&
+    job.diagnosticFeeMinor > 0 &&
+    !(await currentInvoice(job.shopId, job.id))
+  )
+    await raiseInvoice(shop, job.id, { diagnosticFeeMinor: job.diagnosticFeeMinor });
+  return moved;
 }
 
 export type TransitionResult = { ok: true; job: Job } | { ok: false; status: number; message: string };

@@ -1,4 +1,4 @@
-import { and, eq } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import Stripe from "stripe";
 import { z } from "zod";
 import { audit } from "./audit.server";
@@ -6,7 +6,7 @@ import { sendReceiptEmail } from "./customer-email.server";
 import { db } from "./db.server";
 import { newId } from "./ids.server";
 import { type PaymentsFake, startPaymentsFake } from "./payments-fake.server";
-import { type Invoice, settleInvoice } from "./quotes.server";
+import type { Invoice } from "./quotes.server";
 import { boards, customers, invoices, jobs, payments, shops, webhookEvents } from "./schema.server";
 
 // The hosted payment provider behind one module, through its official SDK. With STRIPE_SECRET_KEY set it talks
@@ -173,7 +173,9 @@ export async function createCheckout(input: {
 
 /**
  * The webhook endpoint's work: verify the signature on the raw body, apply each event id once, answer 400 to a
- * bad signature (and log it) so forged calls change nothing.
+ * bad signature (and log it) so forged calls change nothing. The event id is recorded in the same transaction
+ * as the event's effects: a crash before the commit leaves neither, so the provider's retry applies it; after
+ * the commit a retry finds the id and is acknowledged as a duplicate.
  */
 export async function handleWebhook(request: Request): Promise<Response> {
   const { stripe, webhookSecret } = await getPayments();
@@ -188,30 +190,47 @@ export async function handleWebhook(request: Request): Promise<Response> {
     await audit({ shopId: null, actorId: null, action: "payment.webhook-refused", data: { reason } });
     return new Response("Webhook signature could not be verified.", { status: 400 });
   }
-  const fresh = await db
-    .insert(webhookEvents)
-    .values({ id: event.id, type: event.type })
-    .onConflictDoNothing()
-    .returning()
+  const duplicate = () => Response.json({ received: true, duplicate: true });
+  const seen = await db
+    .select({ id: webhookEvents.id })
+    .from(webhookEvents)
+    .where(eq(webhookEvents.id, event.id))
     .get();
-  if (!fresh) return Response.json({ received: true, duplicate: true });
+  if (seen) return duplicate();
+  let applied: Awaited<ReturnType<typeof applyEvent>>;
   try {
-    await applyEvent(event);
+    applied = await applyEvent(event);
   } catch (error) {
-    // Forget the id so the provider's retry applies it.
-    await db.delete(webhookEvents).where(eq(webhookEvents.id, event.id));
+    // A concurrent delivery of the same event committed first; ours rolled back whole.
+    if (isUniqueViolation(error, "webhook_events.id")) return duplicate();
     console.error("Payments webhook failed", error);
     return new Response("Could not apply the event.", { status: 500 });
+  }
+  if (applied.receipt) {
+    const { shopId, invoiceId, amountMinor } = applied.receipt;
+    // The payment is already on the books; a failing e-mail must not make the provider send it again.
+    try {
+      const invoice = await invoiceById(shopId, invoiceId);
+      if (invoice) await sendReceipt(shopId, invoice, amountMinor, "paid online");
+    } catch (error) {
+      console.error("Payments webhook: receipt not sent", error);
+    }
   }
   return Response.json({ received: true });
 }
 
+/** Reads what the event is about, then writes the event id and its effects in one batch (one transaction). */
 async function applyEvent(event: Stripe.Event) {
-  if (event.type !== "checkout.session.completed" && event.type !== "checkout.session.expired") return;
+  const seen = db.insert(webhookEvents).values({ id: event.id, type: event.type });
+  const none = async () => {
+    await db.batch([seen]);
+    return { receipt: null };
+  };
+  if (event.type !== "checkout.session.completed" && event.type !== "checkout.session.expired") return none();
   const session = event.data.object as Stripe.Checkout.Session;
   const shopId = session.metadata?.shopId;
   const paymentId = session.metadata?.paymentId;
-  if (!shopId || !paymentId) return;
+  if (!shopId || !paymentId) return none();
   const payment = await db
     .select()
     .from(payments)
@@ -224,38 +243,87 @@ async function applyEvent(event: Stripe.Event) {
     )
     .get();
   if (!payment) {
-    await audit({
+    await db.batch([
+      seen,
+      audit({
+        shopId,
+        actorId: null,
+        action: "payment.webhook-unmatched",
+        data: { session: session.id },
+      }),
+    ]);
+    return { receipt: null };
+  }
+  if (payment.status !== "pending") return none();
+  // Each change repeats `status = pending`, so two different events about one payment cannot both count it.
+  const stillPending = and(
+    eq(payments.shopId, shopId),
+    eq(payments.id, payment.id),
+    eq(payments.status, "pending"),
+  );
+  if (event.type === "checkout.session.expired") {
+    await db.batch([seen, db.update(payments).set({ status: "failed" }).where(stillPending)]);
+    return { receipt: null };
+  }
+  if (session.payment_status !== "paid") return none();
+  const amountMinor = session.amount_total ?? payment.amountMinor;
+  const [, marked] = await db.batch([
+    seen,
+    db
+      .update(payments)
+      .set({
+        status: "succeeded",
+        amountMinor,
+        providerPaymentIntentId: typeof session.payment_intent === "string" ? session.payment_intent : null,
+        settledAt: new Date(),
+      })
+      .where(stillPending)
+      .returning({ id: payments.id }),
+    settleStatement(shopId, payment.invoiceId),
+    audit({
       shopId,
       actorId: null,
-      action: "payment.webhook-unmatched",
-      data: { session: session.id },
-    });
-    return;
-  }
-  if (payment.status !== "pending") return;
-  if (event.type === "checkout.session.expired") {
-    await db.update(payments).set({ status: "failed" }).where(eq(payments.id, payment.id));
-    return;
-  }
-  if (session.payment_status !== "paid") return;
-  await db
-    .update(payments)
+      action: "payment.received",
+      subject: payment.invoiceId,
+      data: { paymentId, amountMinor: session.amount_total, method: "online", event: event.id },
+    }),
+  ]);
+  return { receipt: marked.length ? { shopId, invoiceId: payment.invoiceId, amountMinor } : null };
+}
+
+/**
+ * The invoice's paid and refunded sums recomputed from its payment rows, as one UPDATE that can share a batch
+ * with the payment it counts. Same rule as settleInvoice: paid once the money taken reaches the total; later
+ * refunds are shown beside it and do not reopen it.
+ */
+function settleStatement(shopId: string, invoiceId: string, now = new Date()) {
+  const sum = (refunds: boolean) =>
+    sql<number>`(select coalesce(sum(p.amount_minor), 0) from payments p
+      where p.shop_id = ${shopId} and p.invoice_id = ${invoiceId} and p.status = 'succeeded'
+      and ${refunds ? sql`p.kind = 'refund'` : sql`p.kind <> 'refund'`})`;
+  const nowPaid = sql`${invoices.status} = 'open' and ${sum(false)} >= ${invoices.totalMinor}`;
+  return db
+    .update(invoices)
     .set({
-      status: "succeeded",
-      amountMinor: session.amount_total ?? payment.amountMinor,
-      providerPaymentIntentId: typeof session.payment_intent === "string" ? session.payment_intent : null,
-      settledAt: new Date(),
+      paidMinor: sum(false),
+      refundedMinor: sum(true),
+      status: sql`case when ${nowPaid} then 'paid' else ${invoices.status} end`,
+      paidAt: sql`case when ${nowPaid} then ${now.getTime()} else ${invoices.paidAt} end`,
     })
-    .where(eq(payments.id, payment.id));
-  const invoice = await settleInvoice(shopId, payment.invoiceId);
-  await audit({
-    shopId,
-    actorId: null,
-    action: "payment.received",
-    subject: invoice.id,
-    data: { paymentId, amountMinor: session.amount_total, method: "online", event: event.id },
-  });
-  await sendReceipt(shopId, invoice, session.amount_total ?? payment.amountMinor, "paid online");
+    .where(and(eq(invoices.shopId, shopId), eq(invoices.id, invoiceId)));
+}
+
+/** A UNIQUE or PRIMARY KEY failure on the named column, however the driver wraps it. */
+function isUniqueViolation(error: unknown, column: string): boolean {
+  for (let e = error as { message?: string; cause?: unknown } | undefined; e; e = e.cause as typeof e) {
+    if (
+      typeof e.message === "string" &&
+      e.message.includes("constraint failed") &&
+      e.message.includes(column)
+    )
+      return true;
+  }
+  return false;
 }
 
 export async function sendReceipt(shopId: string, invoice: Invoice, amountMinor: number, method: string) {
@@ -284,7 +352,19 @@ export async function sendReceipt(shopId: string, invoice: Invoice, amountMinor:
   });
 }
 
-/** Cash or a card terminal at the counter, recorded by the desk. */
+/** The counter payment a form with this key already recorded, if any. */
+export function counterPaymentByKey(shopId: string, idempotencyKey: string) {
+  return db
+    .select()
+    .from(payments)
+    .where(and(eq(payments.shopId, shopId), eq(payments.idempotencyKey, idempotencyKey)))
+    .get();
+}
+
+/**
+ * Cash or a card terminal at the counter, recorded by the desk. The form's idempotency key makes a double
+ * submit record the money once: the second finds the first's row, or loses the race on the unique index.
+ */
 export async function recordCounterPayment(input: {
   shopId: string;
   invoice: Invoice;
@@ -292,36 +372,51 @@ export async function recordCounterPayment(input: {
   method: "cash" | "card-terminal";
   note: string;
   actorId: string;
-}) {
+  idempotencyKey?: string;
+}): Promise<{ invoice: Invoice; duplicate: boolean }> {
+  const current = async () => (await invoiceById(input.shopId, input.invoice.id))!;
+  if (input.idempotencyKey && (await counterPaymentByKey(input.shopId, input.idempotencyKey))) {
+    return { invoice: await current(), duplicate: true };
+  }
   const id = newId();
-  await db.insert(payments).values({
-    id,
-    shopId: input.shopId,
-    invoiceId: input.invoice.id,
-    kind: input.amountMinor < input.invoice.totalMinor - input.invoice.paidMinor ? "deposit" : "payment",
-    method: input.method,
-    status: "succeeded",
-    amountMinor: input.amountMinor,
-    currency: input.invoice.currency,
-    note: input.note,
-    recordedBy: input.actorId,
-    settledAt: new Date(),
-  });
-  const invoice = await settleInvoice(input.shopId, input.invoice.id);
-  await audit({
-    shopId: input.shopId,
-    actorId: input.actorId,
-    action: "payment.recorded",
-    subject: invoice.id,
-    data: { paymentId: id, amountMinor: input.amountMinor, method: input.method },
-  });
+  try {
+    await db.batch([
+      db.insert(payments).values({
+        id,
+        shopId: input.shopId,
+        invoiceId: input.invoice.id,
+        kind: input.amountMinor < input.invoice.totalMinor - input.invoice.paidMinor ? "deposit" : "payment",
+        method: input.method,
+        status: "succeeded",
+        amountMinor: input.amountMinor,
+        currency: input.invoice.currency,
+        note: input.note,
+        recordedBy: input.actorId,
+        settledAt: new Date(),
+        idempotencyKey: input.idempotencyKey ?? null,
+      }),
+      settleStatement(input.shopId, input.invoice.id),
+      audit({
+        shopId: input.shopId,
+        actorId: input.actorId,
+        action: "payment.recorded",
+        subject: input.invoice.id,
+        data: { paymentId: id, amountMinor: input.amountMinor, method: input.method },
+      }),
+    ]);
+  } catch (error) {
+    if (isUniqueViolation(error, "payments.idempotency_key"))
+      return { invoice: await current(), duplicate: true };
+    throw error;
+  }
+  const invoice = await current();
   await sendReceipt(
     input.shopId,
     invoice,
     input.amountMinor,
     input.method === "cash" ? "cash" : "card at the counter",
   );
-  return invoice;
+  return { invoice, duplicate: false };
 }
 
 export type RefundResult = { ok: true } | { ok: false; message: string };
@@ -374,28 +469,30 @@ export async function refundPayment(input: {
       return { ok: false, message: `The provider refused the refund: ${(error as Error).message}` };
     }
   }
-  await db.insert(payments).values({
-    id: newId(),
-    shopId: input.shopId,
-    invoiceId: payment.invoiceId,
-    kind: "refund",
-    method: payment.method,
-    status: "succeeded",
-    amountMinor: input.amountMinor,
-    currency: payment.currency,
-    providerRefundId,
-    refundOf: payment.id,
-    recordedBy: input.actorId,
-    settledAt: new Date(),
-  });
-  await settleInvoice(input.shopId, payment.invoiceId);
-  await audit({
-    shopId: input.shopId,
-    actorId: input.actorId,
-    action: "payment.refunded",
-    subject: payment.invoiceId,
-    data: { paymentId: payment.id, amountMinor: input.amountMinor, providerRefundId },
-  });
+  await db.batch([
+    db.insert(payments).values({
+      id: newId(),
+      shopId: input.shopId,
+      invoiceId: payment.invoiceId,
+      kind: "refund",
+      method: payment.method,
+      status: "succeeded",
+      amountMinor: input.amountMinor,
+      currency: payment.currency,
+      providerRefundId,
+      refundOf: payment.id,
+      recordedBy: input.actorId,
+      settledAt: new Date(),
+    }),
+    settleStatement(input.shopId, payment.invoiceId),
+    audit({
+      shopId: input.shopId,
+      actorId: input.actorId,
+      action: "payment.refunded",
+      subject: payment.invoiceId,
+      data: { paymentId: payment.id, amountMinor: input.amountMinor, providerRefundId },
+    }),
+  ]);
   return { ok: true };
 }
 

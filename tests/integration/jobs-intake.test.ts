@@ -59,6 +59,17 @@ const move = (shop: Shop, jobId: string, to: string, role: keyof Shop["cookies"]
     params: { jobId },
   });
 
+/** A one-line labour quote built by the desk. */
+const quoteLabour = (shop: Shop, jobId: string, price: string) =>
+  call(jobQuote.action, {
+    request: formRequest(
+      `/jobs/${jobId}/quote`,
+      { "lines[0].description": "Bench labour", "lines[0].quantity": "1", "lines[0].unitPrice": price },
+      shop.cookies.desk,
+    ),
+    params: { jobId },
+  });
+
 describe("intake", () => {
   it("opens jobs with sequential numbers per shop and records who took the device in", async () => {
     const a = await createShopWithRoles("Intake A");
@@ -126,8 +137,9 @@ describe("intake", () => {
     expect((await reveal("desk")).status).toBe(403);
 
     // Through the repair to closing; a waiver lets it close unpaid; the passcode is gone afterwards.
+    expect((await move(shop, job.id, "diagnosing", "tech")).status).toBe(302);
+    expect((await quoteLabour(shop, job.id, "85.00")).status).toBe(302);
     for (const [to, role] of [
-      ["diagnosing", "tech"],
       ["awaiting-approval", "desk"],
       ["repairing", "desk"],
       ["testing", "tech"],

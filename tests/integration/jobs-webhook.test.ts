@@ -1,6 +1,6 @@
 import http from "node:http";
 import type { AddressInfo } from "node:net";
-import { and, eq } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import * as webhookRoute from "~/routes/payments-webhook";
 import { db } from "~/server/db.server";
@@ -225,5 +225,97 @@ describe("payments webhook", () => {
       status: "open",
       paidMinor: 5000,
     });
+  });
+
+  it("records the event id only together with its effects: a crash in between leaves the retry to apply it, once", async () => {
+    const { shop, job, invoice, email } = await openInvoice();
+    const checkout = await createCheckout({
+      shop,
+      invoice,
+      jobNumber: job.number,
+      amountMinor: invoice.totalMinor,
+      kind: "payment",
+      customerEmail: email,
+      successUrl: "http://railwise.test/ok",
+      cancelUrl: "http://railwise.test/no",
+      actorId: null,
+    });
+    const { stripe } = await getPayments();
+    const payload = JSON.stringify({
+      id: `evt_crash_${newId(6)}`,
+      object: "event",
+      type: "checkout.session.completed",
+      data: {
+        object: {
+          id: checkout.sessionId,
+          object: "checkout.session",
+          payment_status: "paid",
+          amount_total: invoice.totalMinor,
+          payment_intent: `pi_crash_${newId(6)}`,
+          metadata: { shopId: shop.id, paymentId: checkout.paymentId, invoiceId: invoice.id },
+        },
+      },
+    });
+    const header = () =>
+      stripe.webhooks.generateTestHeaderString({ payload, secret: "whsec_railwise_local_fake" });
+    const eventId = (JSON.parse(payload) as { id: string }).id;
+    const paymentRow = async () =>
+      (await db.select().from(payments).where(eq(payments.id, checkout.paymentId)).get())!;
+
+    // The process dies while applying the event: writing the payment fails, and no clean-up code runs after
+    // it (a delete of the recorded id would fail too). Triggers in the test's SQLite file stand in for both.
+    await db.run(
+      sql.raw(`CREATE TRIGGER test_crash_apply BEFORE UPDATE OF status ON payments WHEN NEW.id = '${checkout.paymentId}'
+        BEGIN SELECT RAISE(ABORT, 'simulated crash while applying'); END`),
+    );
+    await db.run(
+      sql.raw(`CREATE TRIGGER test_crash_cleanup BEFORE DELETE ON webhook_events
+        BEGIN SELECT RAISE(ABORT, 'simulated crash before clean-up'); END`),
+    );
+    try {
+      const crashed = await post(payload, header()).catch(() => new Response(null, { status: 500 }));
+      expect(crashed.status).toBe(500);
+      expect(await db.select().from(webhookEvents).where(eq(webhookEvents.id, eventId)).all()).toEqual([]);
+      expect((await paymentRow()).status).toBe("pending");
+    } finally {
+      await db.run(sql.raw("DROP TRIGGER IF EXISTS test_crash_apply"));
+      await db.run(sql.raw("DROP TRIGGER IF EXISTS test_crash_cleanup"));
+    }
+
+    // The provider retries (here two deliveries at once): the payment lands, with its event id, once.
+    const retried = await Promise.all([post(payload, header()), post(payload, header())]);
+    expect(retried.map((r) => r.status)).toEqual([200, 200]);
+    const answers = await Promise.all(retried.map((r) => r.json()));
+    expect(answers.filter((a) => a.duplicate)).toHaveLength(1);
+    expect(await paymentRow()).toMatchObject({ status: "succeeded", amountMinor: invoice.totalMinor });
+    const { invoices } = await import("~/server/schema.server");
+    expect((await db.select().from(invoices).where(eq(invoices.id, invoice.id)).get())!).toMatchObject({
+      status: "paid",
+      paidMinor: invoice.totalMinor,
+    });
+    expect(
+      (await db.select().from(invoices).where(eq(invoices.id, invoice.id)).get())!.paidAt,
+    ).toBeInstanceOf(Date);
+
+    // Replays, one after another and two at once, are acknowledged and change nothing.
+    const replays = [
+      await post(payload, header()),
+      ...(await Promise.all([post(payload, header()), post(payload, header())])),
+    ];
+    for (const r of replays) {
+      expect(r.status).toBe(200);
+      expect(await r.json()).toMatchObject({ duplicate: true });
+    }
+    expect(await db.select().from(webhookEvents).where(eq(webhookEvents.id, eventId)).all()).toHaveLength(1);
+    const received = await db
+      .select()
+      .from(auditEvents)
+      .where(and(eq(auditEvents.subject, invoice.id), eq(auditEvents.action, "payment.received")))
+      .all();
+    expect(received).toHaveLength(1);
+    const receipts = (await db.select().from(outbox).where(eq(outbox.to, email)).all()).filter((m) =>
+      m.subject.includes("receipt"),
+    );
+    expect(receipts).toHaveLength(1);
   });
 });
