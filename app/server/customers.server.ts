@@ -1,7 +1,8 @@
-import { and, eq, inArray, isNull, lt } from "drizzle-orm";
+import { and, eq, inArray, isNull, like, lt, or } from "drizzle-orm";
 import { audit } from "./audit.server";
 import { db } from "./db.server";
 import {
+  auditEvents,
   customers,
   invoices,
   jobEvents,
@@ -190,6 +191,115 @@ async function anonymiseJobs(shopId: string, jobIds: string[], now: Date) {
   }
 }
 
+type Person = { id: string; name: string; email: string | null; phone: string | null };
+
+const ERASED = "[erased]";
+const escapeRegExp = (text: string) => text.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");
+
+/** The person's e-mail, phone and full name replaced wherever they appear whole in a text. */
+function scrubText(text: string, person: Person): string {
+  let out = text;
+  for (const needle of [person.email, person.phone, person.name]) {
+    // Very short values ("Al") would hit ordinary words; a name that short stays.
+    if (!needle || needle.trim().length < 3 || needle === "Erased customer") continue;
+    // Whole words only, so "Ann" does not eat the start of "Annual".
+    const whole = new RegExp(`(?<![\\p{L}\\p{N}])${escapeRegExp(needle.trim())}(?![\\p{L}\\p{N}])`, "giu");
+    out = out.replace(whole, ERASED);
+  }
+  return out;
+}
+
+function scrubValue(value: unknown, person: Person): unknown {
+  if (typeof value === "string") return scrubText(value, person);
+  if (Array.isArray(value)) return value.map((v) => scrubValue(v, person));
+  if (value && typeof value === "object") {
+    return Object.fromEntries(Object.entries(value).map(([k, v]) => [k, scrubValue(v, person)]));
+  }
+  return value;
+}
+
+/**
+ * Personal data copied out of the customer row: audit entries (a quote's `to` address, a waiver's reason),
+ * the waiver reason on the job and the desk's notes on payments. The entries stay, so the trail still says who
+ * did what and when; only the copies of the person go. `wholeCustomer` (an erasure, not the retention of some
+ * jobs) also reaches entries about the customer row and any entry quoting their address or phone number.
+ * Captured e-mail (the outbox) exists only in development and the local demo and is not touched.
+ */
+async function scrubCopies(shopId: string, person: Person, jobIds: string[], wholeCustomer: boolean) {
+  const [quoteRows, invoiceRows] = jobIds.length
+    ? await Promise.all([
+        db
+          .select({ id: quotes.id })
+          .from(quotes)
+          .where(and(eq(quotes.shopId, shopId), inArray(quotes.jobId, jobIds)))
+          .all(),
+        db
+          .select({ id: invoices.id })
+          .from(invoices)
+          .where(and(eq(invoices.shopId, shopId), inArray(invoices.jobId, jobIds)))
+          .all(),
+      ])
+    : [[], []];
+  const subjects = [
+    ...(wholeCustomer ? [person.id] : []),
+    ...jobIds,
+    ...quoteRows.map((q) => q.id),
+    ...invoiceRows.map((i) => i.id),
+  ];
+  // Entries about the customer's records, and on erasure any other entry quoting their address or phone.
+  const quoting = wholeCustomer
+    ? [person.email, person.phone]
+        .filter((v): v is string => !!v && v.trim().length >= 3)
+        .map((v) => like(auditEvents.data, `%${v.trim()}%`))
+    : [];
+  const entries = await db
+    .select({ id: auditEvents.id, data: auditEvents.data })
+    .from(auditEvents)
+    .where(and(eq(auditEvents.shopId, shopId), or(inArray(auditEvents.subject, subjects), ...quoting)))
+    .all();
+  const jobRows = jobIds.length
+    ? await db
+        .select({ id: jobs.id, waiverReason: jobs.waiverReason })
+        .from(jobs)
+        .where(and(eq(jobs.shopId, shopId), inArray(jobs.id, jobIds)))
+        .all()
+    : [];
+  const paymentRows = invoiceRows.length
+    ? await db
+        .select({ id: payments.id, note: payments.note })
+        .from(payments)
+        .where(
+          and(
+            eq(payments.shopId, shopId),
+            inArray(
+              payments.invoiceId,
+              invoiceRows.map((i) => i.id),
+            ),
+          ),
+        )
+        .all()
+    : [];
+  const writes = [
+    ...entries.flatMap((e) => {
+      const data = e.data ? (scrubValue(e.data, person) as Record<string, unknown>) : e.data;
+      return JSON.stringify(data) === JSON.stringify(e.data)
+        ? []
+        : [db.update(auditEvents).set({ data }).where(eq(auditEvents.id, e.id))];
+    }),
+    ...jobRows.flatMap((j) => {
+      const reason = j.waiverReason ? scrubText(j.waiverReason, person) : j.waiverReason;
+      return reason === j.waiverReason
+        ? []
+        : [db.update(jobs).set({ waiverReason: reason }).where(eq(jobs.id, j.id))];
+    }),
+    ...paymentRows.flatMap((p) => {
+      const note = scrubText(p.note, person);
+      return note === p.note ? [] : [db.update(payments).set({ note }).where(eq(payments.id, p.id))];
+    }),
+  ];
+  if (writes.length) await db.batch(writes as unknown as Parameters<typeof db.batch>[0]);
+}
+
 async function eraseCustomerRow(shopId: string, customerId: string, now: Date) {
   await db
     .update(customers)
@@ -204,11 +314,23 @@ export async function eraseCustomer(shopId: string, customerId: string, actorId:
     .from(jobs)
     .where(and(eq(jobs.shopId, shopId), eq(jobs.customerId, customerId)))
     .all();
+  const person = await db
+    .select({ id: customers.id, name: customers.name, email: customers.email, phone: customers.phone })
+    .from(customers)
+    .where(and(eq(customers.shopId, shopId), eq(customers.id, customerId)))
+    .get();
   await anonymiseJobs(
     shopId,
     jobRows.map((j) => j.id),
     now,
   );
+  if (person)
+    await scrubCopies(
+      shopId,
+      person,
+      jobRows.map((j) => j.id),
+      true,
+    );
   await eraseCustomerRow(shopId, customerId, now);
   await audit({
     shopId,
@@ -250,12 +372,26 @@ export async function eraseExpiredPersonalData(now = new Date()) {
     jobsErased += due.length;
     const customerIds = [...new Set(due.map((d) => d.customerId).filter((c): c is string => !!c))];
     for (const customerId of customerIds) {
+      const person = await db
+        .select({ id: customers.id, name: customers.name, email: customers.email, phone: customers.phone })
+        .from(customers)
+        .where(and(eq(customers.shopId, shop.id), eq(customers.id, customerId)))
+        .get();
+      if (person)
+        await scrubCopies(
+          shop.id,
+          person,
+          due.filter((d) => d.customerId === customerId).map((d) => d.id),
+          false,
+        );
       const stillHeld = await db
         .select({ id: jobs.id })
         .from(jobs)
         .where(and(eq(jobs.shopId, shop.id), eq(jobs.customerId, customerId), isNull(jobs.anonymisedAt)))
         .get();
       if (!stillHeld) {
+        // Nothing of theirs is kept any more: whatever else quotes them goes as on an erasure.
+        if (person) await scrubCopies(shop.id, person, [], true);
         await eraseCustomerRow(shop.id, customerId, now);
         customersErased++;
       }
