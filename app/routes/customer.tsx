@@ -1,5 +1,6 @@
 import { and, desc, eq } from "drizzle-orm";
 import { data, Form, Link } from "react-router";
+import { z } from "zod";
 import { PageHeader } from "~/components/page-header";
 import { JOB_STATE_LABELS } from "~/lib/job-states";
 import { requireMember } from "~/server/auth.server";
@@ -34,15 +35,20 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   };
 }
 
+const EraseSchema = z.object({
+  intent: z.literal("erase", { error: "Unknown action." }),
+  confirm: z
+    .string({ error: "Type ERASE to confirm. Nothing was changed." })
+    .trim()
+    .refine((v) => v === "ERASE", "Type ERASE to confirm. Nothing was changed."),
+});
+
 export async function action({ request, params }: Route.ActionArgs) {
   const { shop, user } = await requireMember(request, { permission: "manage:customers" });
   const customer = await getCustomer(shop.id, params.customerId);
   if (!customer) throw new Response("That customer was not found in your shop.", { status: 404 });
-  const form = await request.formData();
-  if (form.get("intent") !== "erase") return data({ message: "Unknown action." }, { status: 400 });
-  if (String(form.get("confirm") ?? "").trim() !== "ERASE") {
-    return data({ message: "Type ERASE to confirm. Nothing was changed." }, { status: 400 });
-  }
+  const parsed = EraseSchema.safeParse(Object.fromEntries(await request.formData()));
+  if (!parsed.success) return data({ message: parsed.error.issues[0].message }, { status: 400 });
   await eraseCustomer(shop.id, customer.id, user.id);
   return redirectWithToast(`/customers/${customer.id}`, {
     kind: "success",
