@@ -16,6 +16,7 @@ import { newId } from "~/server/ids.server";
 import { getMapForShop } from "~/server/maps.server";
 import { assertSameOrigin } from "~/server/origin.server";
 import { uploads } from "~/server/schema.server";
+import { isUndecodableField } from "~/server/photos.server";
 import { storage } from "~/server/storage.server";
 import { refuseImageSize } from "~/lib/image-dimensions";
 import { extensionMismatch } from "~/lib/upload-names";
@@ -52,7 +53,7 @@ export const action = withResourceHeaders(async function action({ request, param
       );
     if (e instanceof MaxFilesExceededError)
       return data<Reply>({ ok: false, message: "Send one photo at a time." }, { status: 400 });
-    if (e instanceof FormDataParseError)
+    if (e instanceof FormDataParseError || isUndecodableField(e))
       return data<Reply>({ ok: false, message: "The upload could not be read; try again." }, { status: 400 });
     throw e;
   }

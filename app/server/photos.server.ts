@@ -68,6 +68,14 @@ export async function putPhoto(input: {
   return row;
 }
 
+/**
+ * A file part sent without a file name is read as a text field, and binary bytes then fail to decode as UTF-8:
+ * that is a malformed upload (400), not a server fault.
+ */
+export function isUndecodableField(e: unknown) {
+  return e instanceof TypeError && (e as { code?: string }).code === "ERR_ENCODING_INVALID_ENCODED_DATA";
+}
+
 export type FormRead = { ok: true; formData: FormData } | { ok: false; status: number; message: string };
 
 /**
@@ -87,7 +95,7 @@ export async function readFormWithPhoto(request: Request, field: string): Promis
       return { ok: false, status: 413, message: "The photo is larger than 8 MB; nothing was saved." };
     if (e instanceof MaxFilesExceededError)
       return { ok: false, status: 400, message: "Attach one photo at a time; nothing was saved." };
-    if (e instanceof FormDataParseError)
+    if (e instanceof FormDataParseError || isUndecodableField(e))
       return { ok: false, status: 400, message: "The form could not be read; nothing was saved. Try again." };
     throw e;
   }

@@ -117,6 +117,17 @@ describe("probe-point photos", () => {
     expect(row).toMatchObject({ contentType: "image/jpeg", bytes: JPEG_1PX.length });
   });
 
+  it("answers a file part without a file name with 400, not a server error", async () => {
+    const { shop, mapId } = await setup();
+    const r = await call(photos.action, {
+      request: uploadRequest(mapId, shop.cookies.lead, PNG_1PX, "", "image/png"),
+      params: { mapId },
+    });
+    expect(r.status).toBe(400);
+    expect((r.data as { message: string }).message).toMatch(/could not be read/);
+    expect(await db.select().from(uploads).where(eq(uploads.shopId, shop.shopId)).all()).toEqual([]);
+  });
+
   it("refuses a post from another site before reading it", async () => {
     const { shop, mapId } = await setup();
     const request = uploadRequest(mapId, shop.cookies.lead, PNG_1PX, "board.png", "image/png");
