@@ -7,12 +7,12 @@ import { draftDocument, getMapForShop, getVersion } from "~/server/maps.server";
 import type { Route } from "./+types/map-compare";
 
 async function side(shopId: string, mapId: string, draft: unknown, value: string | null) {
-  if (!value || value === "draft") return { label: "current draft", doc: draftDocument(draft) };
+  if (!value || value === "draft") return { label: "current draft", number: null, doc: draftDocument(draft) };
   const number = Number(value);
   if (!Number.isInteger(number) || number < 1)
     throw new Response("Pick a version number or the draft.", { status: 400 });
   const v = await getVersion(shopId, mapId, number);
-  return { label: `version ${v.number}`, doc: v.document };
+  return { label: `version ${v.number}`, number: v.number, doc: v.document };
 }
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -31,6 +31,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     map: { id: map.id, name: map.name },
     a: a.label,
     b: b.label,
+    // Each side opens on the canvas: a version read-only (where its picture can be exported), the draft to edit.
+    sides: [...new Map([a, b].map((x) => [x.label, { label: x.label, number: x.number }])).values()],
     added: diff.added.map(brief),
     removed: diff.removed.map(brief),
     changed: diff.changed.map((c) => ({ ...brief(c.after), fields: c.fields })),
@@ -56,6 +58,18 @@ export default function MapCompareRoute({ loaderData: d }: Route.ComponentProps)
         </Link>
       </p>
       <PageHeader title={`Compare ${d.a} with ${d.b}`} subtitle={d.map.name} />
+      <p className="mb-4 flex flex-wrap gap-3 text-sm">
+        {d.sides.map((side) => (
+          <Link
+            key={side.label}
+            className="link"
+            to={side.number === null ? `/maps/${d.map.id}` : `/maps/${d.map.id}?version=${side.number}`}
+          >
+            Open {side.label}
+            {side.number === null ? "" : " (read only, with PNG and SVG export)"}
+          </Link>
+        ))}
+      </p>
       {none ? <p className="card">No differences (positions on the canvas are not compared).</p> : null}
       <div className="grid gap-4 md:grid-cols-3">
         <List

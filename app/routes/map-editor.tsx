@@ -1,9 +1,9 @@
 import "@xyflow/react/dist/style.css";
 import { and, eq } from "drizzle-orm";
-import { useCallback, useState } from "react";
+import { useCallback, useEffect, useRef, useState } from "react";
 import { data, Link, type ShouldRevalidateFunctionArgs, useFetcher } from "react-router";
 import { z } from "zod";
-import { MapEditor, type SaveResult } from "~/components/map-editor/editor";
+import { type DraftReplaceHandle, MapEditor, type SaveResult } from "~/components/map-editor/editor";
 import { useMember } from "~/components/use-member";
 import { MAX_MAP_JSON_CHARS, mapFromJson, validateMap, type ValidationIssue } from "~/lib/engine";
 import { MapChangesSchema } from "~/lib/map-changes";
@@ -21,7 +21,9 @@ import {
   publishDraft,
   replaceDraft,
   saveDraftChanges,
+  staleMessage,
 } from "~/server/maps.server";
+import { unpublishedChanges } from "~/server/map-draft-base.server";
 import { addRunNote, getRunEvidence, type RunEvidence } from "~/server/runs.server";
 import { boards } from "~/server/schema.server";
 import type { Route } from "./+types/map-editor";
@@ -57,13 +59,25 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     .where(and(eq(boards.id, map.boardId), eq(boards.shopId, shop.id)))
     .get();
   const versions = await listVersions(shop.id, map.id);
-  // Maps written without positions (seeded or imported) are laid out here, so everyone sees the same picture.
+  // ?version=N shows that published version read-only (to look at it, print or export its picture).
+  const wanted = new URL(request.url).searchParams.get("version");
+  let viewing: { number: number; note: string; publishedAt: Date } | null = null;
   let doc = draftDocument(map.draft);
+  if (wanted !== null) {
+    const number = Number(wanted);
+    if (!Number.isInteger(number) || number < 1)
+      throw new Response("Ask for a published version by its number, such as 1.", { status: 400 });
+    const v = await getVersion(shop.id, map.id, number);
+    viewing = { number: v.number, note: v.note, publishedAt: v.publishedAt };
+    doc = v.document;
+  }
+  // Maps written without positions (seeded or imported) are laid out here, so everyone sees the same picture.
   if (doc.nodes.some((n) => !n.position)) doc = withPositions(doc, layoutDocument(doc), true);
   return {
     map: { id: map.id, name: map.name, revision: map.draftRevision, updatedAt: map.draftUpdatedAt },
     board,
     doc,
+    viewing,
     versions,
     role,
     fromRun,
@@ -87,6 +101,8 @@ const FromVersionSchema = z.object({
   intent: z.literal("draft-from-version"),
   revision: RevisionSchema,
   number: z.coerce.number().int().min(1),
+  // Given once the lead has agreed to drop the draft's unpublished changes.
+  confirm: z.literal("1").optional(),
 });
 const ActionSchema = z.discriminatedUnion("intent", [
   SaveSchema,
@@ -99,6 +115,7 @@ type Refusal = {
   ok: false;
   message: string;
   conflict?: boolean;
+  needsConfirm?: boolean;
   revision?: number;
   issues?: ValidationIssue[];
 };
@@ -213,6 +230,21 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
 
   const version = await getVersion(shop.id, map.id, input.number);
+  if (!input.confirm) {
+    if (map.draftRevision !== input.revision)
+      return refuse(409, {
+        message: staleMessage(map.draftRevision),
+        conflict: true,
+        revision: map.draftRevision,
+      });
+    const lost = await unpublishedChanges(shop.id, map.id, draftDocument(map.draft));
+    if (lost)
+      return refuse(409, {
+        needsConfirm: true,
+        revision: map.draftRevision,
+        message: `The draft has changes that are in no published version (${lost.base ? `since version ${lost.base}: ` : ""}${lost.summary}). Starting again from version ${version.number} drops them.`,
+      });
+  }
   const r = await replaceDraft({
     shopId: shop.id,
     mapId: map.id,
@@ -240,13 +272,24 @@ export function shouldRevalidate({
   return defaultShouldRevalidate;
 }
 
+function slug(name: string) {
+  return (
+    name
+      .toLowerCase()
+      .replace(/[^a-z0-9]+/g, "-")
+      .replace(/^-|-$/g, "") || "map"
+  );
+}
+
 export default function MapEditorRoute({ loaderData }: Route.ComponentProps) {
-  const { map, board, doc, versions, fromRun } = loaderData;
-  const evidence = fromRun?.ok ? fromRun.evidence : null;
+  const { map, board, doc, viewing, versions, fromRun } = loaderData;
+  const evidence = fromRun?.ok && !viewing ? fromRun.evidence : null;
   const { can } = useMember();
   const canEdit = can("edit:maps");
+  const editsDraft = canEdit && !viewing;
   const [revision, setRevision] = useState(map.revision);
   const onRevision = useCallback((r: number) => setRevision(r), []);
+  const editor = useRef<DraftReplaceHandle>(null);
   return (
     <>
       <p className="mb-2 text-sm">
@@ -267,14 +310,34 @@ export default function MapEditorRoute({ loaderData }: Route.ComponentProps) {
         <div>
           <h1 className="text-2xl font-semibold tracking-tight">{map.name}</h1>
           <p className="text-sm text-muted">
-            Power-up map draft ·{" "}
-            {versions.length ? `latest published version ${versions[0].number}` : "never published"}
+            {viewing
+              ? `Published version ${viewing.number} · read only`
+              : `Power-up map draft · ${versions.length ? `latest published version ${versions[0].number}` : "never published"}`}
           </p>
         </div>
-        <a className="btn px-3 py-1" href={`/maps/${map.id}/export`} download>
-          Export draft JSON
+        <a
+          className="btn px-3 py-1"
+          href={`/maps/${map.id}/export${viewing ? `?version=${viewing.number}` : ""}`}
+          download
+        >
+          {viewing ? `Export v${viewing.number} JSON` : "Export draft JSON"}
         </a>
       </div>
+      {viewing ? (
+        <section
+          className="card mb-4 flex flex-wrap items-center gap-3 border-l-4 border-l-info text-sm"
+          aria-label="Published version"
+        >
+          <p className="flex-1">
+            You are looking at version {viewing.number}, published{" "}
+            {new Date(viewing.publishedAt).toLocaleDateString("en-CA")}: {viewing.note}. Published versions
+            never change; PNG and SVG export this version's picture.
+          </p>
+          <Link className="btn px-3 py-1" to={`/maps/${map.id}`}>
+            Back to the draft
+          </Link>
+        </section>
+      ) : null}
       {fromRun && !fromRun.ok ? (
         <p role="alert" className="card mb-4 border-l-4 border-l-bad text-sm">
           {fromRun.message} The draft is shown without a run beside it.
@@ -282,16 +345,33 @@ export default function MapEditorRoute({ loaderData }: Route.ComponentProps) {
       ) : null}
       {evidence && canEdit ? <RunEvidencePanel evidence={evidence} /> : null}
       <MapEditor
+        key={viewing ? `v${viewing.number}` : "draft"}
         mapId={map.id}
         doc={doc}
         revision={map.revision}
-        canEdit={canEdit}
+        canEdit={editsDraft}
         onRevision={onRevision}
-        toolbarExtra={canEdit ? (s) => <PublishForm mapId={map.id} fromRun={evidence} {...s} /> : undefined}
+        replaceHandle={editor}
+        readOnlyNote={
+          viewing
+            ? `Published version ${viewing.number}: read only. Start a new draft from it to change it.`
+            : undefined
+        }
+        pictureName={`${slug(map.name)}-${viewing ? `v${viewing.number}` : "draft"}`}
+        toolbarExtra={
+          editsDraft ? (s) => <PublishForm mapId={map.id} fromRun={evidence} {...s} /> : undefined
+        }
       />
       <div className="mt-6 grid gap-6 lg:grid-cols-2">
-        <Versions mapId={map.id} versions={versions} revision={revision} canEdit={canEdit} />
-        {canEdit ? <ImportPanel mapId={map.id} revision={revision} /> : null}
+        <Versions
+          mapId={map.id}
+          versions={versions}
+          revision={revision}
+          canEdit={editsDraft}
+          viewing={viewing?.number ?? null}
+          editor={editor}
+        />
+        {editsDraft ? <ImportPanel mapId={map.id} revision={revision} editor={editor} /> : null}
       </div>
     </>
   );
@@ -412,13 +492,59 @@ function Versions({
   versions,
   revision,
   canEdit,
+  viewing,
+  editor,
 }: {
   mapId: string;
   versions: Array<{ id: string; number: number; note: string; publishedAt: Date }>;
   revision: number;
   canEdit: boolean;
+  viewing: number | null;
+  editor: React.RefObject<DraftReplaceHandle | null>;
 }) {
-  const fetcher = useFetcher<ActionReply>();
+  const fetcher = useFetcher<ActionReply & { needsConfirm?: boolean }>();
+  const [confirming, setConfirming] = useState<{ number: number; message: string } | null>(null);
+  const [notice, setNotice] = useState<string | null>(null);
+  const asked = useRef<number | null>(null);
+  const start = (number: number, confirmed: boolean, waited = 0) => {
+    const state = editor.current?.state() ?? { unsaved: 0, saving: false, revision };
+    setNotice(null);
+    // A save on its way would make this request's revision stale: let it land first.
+    if (state.saving) {
+      if (waited < 40) {
+        setNotice("Saving your last change first…");
+        setTimeout(() => start(number, confirmed, waited + 1), 250);
+      } else setNotice("Your last change is still being saved; try again in a moment.");
+      return;
+    }
+    if (!confirmed && state.unsaved) {
+      setConfirming({
+        number,
+        message: `You have ${state.unsaved} unsaved change${state.unsaved === 1 ? "" : "s"} on the canvas. Starting again from version ${number} drops them.`,
+      });
+      return;
+    }
+    setConfirming(null);
+    asked.current = number;
+    editor.current?.begin();
+    fetcher.submit(
+      {
+        intent: "draft-from-version",
+        revision: String(state.revision),
+        number: String(number),
+        ...(confirmed ? { confirm: "1" } : {}),
+      },
+      { method: "post", action: `/maps/${mapId}` },
+    );
+  };
+  // The server asks first when the draft holds unpublished changes; any refusal lets autosave carry on.
+  // biome-ignore lint/correctness/useExhaustiveDependencies: react to a finished request only
+  useEffect(() => {
+    if (fetcher.state !== "idle" || !fetcher.data || fetcher.data.ok) return;
+    editor.current?.end();
+    if (fetcher.data.needsConfirm && asked.current !== null)
+      setConfirming({ number: asked.current, message: fetcher.data.message ?? "" });
+  }, [fetcher.state, fetcher.data]);
   return (
     <section className="card" aria-label="Versions">
       <h2 className="mb-3 font-semibold">Published versions</h2>
@@ -429,23 +555,54 @@ function Versions({
             <span className="font-mono font-semibold">v{v.number}</span>
             <span className="flex-1">{v.note}</span>
             <span className="text-muted">{new Date(v.publishedAt).toLocaleDateString("en-CA")}</span>
+            {viewing === v.number ? (
+              <span className="font-medium" aria-current="page">
+                shown above
+              </span>
+            ) : (
+              <Link className="link" to={`/maps/${mapId}?version=${v.number}`}>
+                View<span className="sr-only"> version {v.number}</span>
+              </Link>
+            )}
             <a className="link" href={`/maps/${mapId}/export?version=${v.number}`} download>
               JSON
             </a>
             {canEdit ? (
-              <fetcher.Form method="post" action={`/maps/${mapId}`}>
-                <input type="hidden" name="intent" value="draft-from-version" />
-                <input type="hidden" name="revision" value={revision} />
-                <input type="hidden" name="number" value={v.number} />
-                <button type="submit" className="btn min-h-0 px-2 py-0.5 text-xs">
-                  New draft from v{v.number}
-                </button>
-              </fetcher.Form>
+              <button
+                type="button"
+                className="btn min-h-0 px-2 py-0.5 text-xs"
+                disabled={fetcher.state !== "idle"}
+                onClick={() => start(v.number, false)}
+              >
+                New draft from v{v.number}
+              </button>
             ) : null}
           </li>
         ))}
       </ul>
-      {fetcher.data && fetcher.state === "idle" ? (
+      {confirming ? (
+        <div role="alert" className="mt-3 rounded-md border border-warn bg-warn-soft p-3 text-sm">
+          <p>{confirming.message}</p>
+          <div className="mt-2 flex flex-wrap gap-2">
+            <button
+              type="button"
+              className="btn btn-primary px-3 py-1"
+              onClick={() => start(confirming.number, true)}
+            >
+              Replace the draft with v{confirming.number}
+            </button>
+            <button type="button" className="btn px-3 py-1" onClick={() => setConfirming(null)}>
+              Keep the draft
+            </button>
+          </div>
+        </div>
+      ) : null}
+      {notice ? (
+        <p role="alert" className="mt-2 text-sm text-warn">
+          {notice}
+        </p>
+      ) : null}
+      {fetcher.data && fetcher.state === "idle" && !fetcher.data.needsConfirm && !confirming ? (
         <p
           role={fetcher.data.ok ? "status" : "alert"}
           className={`mt-2 text-sm ${fetcher.data.ok ? "text-ok" : "text-bad"}`}
@@ -497,8 +654,21 @@ type Preview =
   | { ok: true; json: string; nodes: number; edges: number; warnings: number; board?: string }
   | { ok: false; message: string; issues?: ValidationIssue[] };
 
-function ImportPanel({ mapId, revision }: { mapId: string; revision: number }) {
+function ImportPanel({
+  mapId,
+  revision,
+  editor,
+}: {
+  mapId: string;
+  revision: number;
+  editor: React.RefObject<DraftReplaceHandle | null>;
+}) {
   const fetcher = useFetcher<ActionReply>();
+  // A refused import leaves the draft as it was, so autosave carries on.
+  // biome-ignore lint/correctness/useExhaustiveDependencies: react to a finished request only
+  useEffect(() => {
+    if (fetcher.state === "idle" && fetcher.data && !fetcher.data.ok) editor.current?.end();
+  }, [fetcher.state, fetcher.data]);
   const [preview, setPreview] = useState<Preview | null>(null);
   const onFile = async (file: File | undefined) => {
     if (!file) return setPreview(null);
@@ -564,6 +734,7 @@ function ImportPanel({ mapId, revision }: { mapId: string; revision: number }) {
           method="post"
           action={`/maps/${mapId}`}
           encType="multipart/form-data"
+          onSubmit={() => editor.current?.begin()}
           className="flex flex-col gap-2 rounded-md border border-line p-3 text-sm"
         >
           <p data-testid="import-preview">

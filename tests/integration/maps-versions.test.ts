@@ -1,7 +1,8 @@
 import { eq } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
-import { mapFromJson } from "~/lib/engine";
+import { type MapDocument, type MapNode, mapFromJson } from "~/lib/engine";
 import * as compare from "~/routes/map-compare";
+import * as editor from "~/routes/map-editor";
 import * as exporter from "~/routes/map-export";
 import { db } from "~/server/db.server";
 import { maps, mapVersions } from "~/server/schema.server";
@@ -51,20 +52,107 @@ describe("versions", () => {
     expect(d.edgesAdded).toBe(1);
   });
 
-  it("starts a new draft from an older version", async () => {
+  it("starts a new draft from an older version, asking first when the draft has unpublished changes", async () => {
     const { shop, mapId } = await publishedMap();
     await save(mapId, shop.cookies.lead, 1, [
       { op: "remove-node", id: "v3" },
       { op: "remove-edge", id: "u1--v3" },
     ]);
-    const r = await post(mapId, shop.cookies.lead, {
+    const asked = await post(mapId, shop.cookies.lead, {
       intent: "draft-from-version",
       revision: "2",
       number: "1",
     });
+    expect(asked.status).toBe(409);
+    expect(asked.data).toMatchObject({ ok: false, needsConfirm: true, revision: 2 });
+    const message = (asked.data as { message: string }).message;
+    expect(message).toMatch(/since version 1: 1 node removed, 1 link added or removed/);
+    expect(message).not.toMatch(/Another lead/);
+    expect((await db.select().from(maps).where(eq(maps.id, mapId)).get())!.draftRevision).toBe(2);
+
+    const r = await post(mapId, shop.cookies.lead, {
+      intent: "draft-from-version",
+      revision: "2",
+      number: "1",
+      confirm: "1",
+    });
     expect(r.data).toMatchObject({ ok: true, revision: 3 });
     const doc = (await load(mapId, shop.cookies.lead)).data!.doc;
     expect(doc.nodes.map((n) => n.id)).toContain("v3");
+  });
+
+  it("starts a new draft without asking when the draft is exactly a published version", async () => {
+    const { shop, mapId } = await publishedMap();
+    await save(mapId, shop.cookies.lead, 1, [{ op: "put-node", node: src("battery") }]);
+    const p2 = await post(mapId, shop.cookies.lead, { intent: "publish", revision: "2", note: "battery" });
+    expect(p2.data).toMatchObject({ ok: true, published: 2 });
+    // Just published: nothing to lose.
+    const back = await post(mapId, shop.cookies.lead, {
+      intent: "draft-from-version",
+      revision: "2",
+      number: "1",
+    });
+    expect(back.data).toMatchObject({ ok: true, revision: 3 });
+    // The draft is now version 1 (not the latest), still nothing to lose.
+    const forward = await post(mapId, shop.cookies.lead, {
+      intent: "draft-from-version",
+      revision: "3",
+      number: "2",
+    });
+    expect(forward.data).toMatchObject({ ok: true, revision: 4 });
+    // Moving one node on the canvas is a change worth asking about.
+    const moved = { ...(src("battery") as object), position: { x: 500, y: 40 } } as MapNode;
+    await save(mapId, shop.cookies.lead, 4, [{ op: "put-node", node: moved }]);
+    const ask = await post(mapId, shop.cookies.lead, {
+      intent: "draft-from-version",
+      revision: "5",
+      number: "1",
+    });
+    expect(ask.status).toBe(409);
+    expect((ask.data as { message: string }).message).toMatch(/1 node moved/);
+  });
+
+  it("answers a stale revision with a conflict before asking anything", async () => {
+    const { shop, mapId } = await publishedMap();
+    const r = await post(mapId, shop.cookies.lead, {
+      intent: "draft-from-version",
+      revision: "0",
+      number: "1",
+    });
+    expect(r.status).toBe(409);
+    expect(r.data).toMatchObject({ conflict: true, revision: 1 });
+  });
+
+  it("shows a published version read-only through the editor's loader, and refuses a bad number", async () => {
+    const { shop, mapId } = await publishedMap();
+    await save(mapId, shop.cookies.lead, 1, [{ op: "put-node", node: src("draft-only") }]);
+    const v1 = await call(editor.loader, {
+      request: getRequest(`/maps/${mapId}?version=1`, shop.cookies.desk),
+      params: { mapId },
+    });
+    expect(v1.status).toBe(200);
+    const d = v1.data as { doc: MapDocument; viewing: { number: number; note: string } };
+    expect(d.viewing).toMatchObject({ number: 1, note: "first" });
+    expect(d.doc.nodes.map((n) => n.id).sort()).toEqual(["chg", "u1", "v3", "vin"]);
+    // Laid out for the canvas even though the version was stored without positions.
+    expect(d.doc.nodes.every((n) => n.position)).toBe(true);
+    const draft = (await load(mapId, shop.cookies.desk)).data as unknown as {
+      viewing: null;
+      doc: MapDocument;
+    };
+    expect(draft.viewing).toBeNull();
+    expect(draft.doc.nodes.map((n) => n.id)).toContain("draft-only");
+    for (const [q, status] of [
+      ["9", 404],
+      ["0", 400],
+      ["two", 400],
+    ] as const) {
+      const r = await call(editor.loader, {
+        request: getRequest(`/maps/${mapId}?version=${q}`, shop.cookies.lead),
+        params: { mapId },
+      });
+      expect(r.status, q).toBe(status);
+    }
   });
 
   it("exports a version as a map document the engine reads back", async () => {

@@ -12,7 +12,7 @@ import {
   getNodesBounds,
   useReactFlow,
 } from "@xyflow/react";
-import { useCallback, useEffect, useMemo, useRef, useState } from "react";
+import { useCallback, useEffect, useImperativeHandle, useMemo, useRef, useState } from "react";
 import { useFetcher, useRevalidator } from "react-router";
 import {
   type MapDocument,
@@ -71,14 +71,32 @@ function isTyping(target: EventTarget | null) {
   return !!el && (el.isContentEditable || ["INPUT", "TEXTAREA", "SELECT"].includes(el.tagName));
 }
 
-export function MapEditor(props: {
+/**
+ * Lets the page replace the whole draft on the user's word (import, new draft from a version): while a
+ * replacement is under way autosave holds off, and the new server revision is taken as ours, not as
+ * another lead's edit.
+ */
+export type DraftReplaceHandle = {
+  state: () => { unsaved: number; saving: boolean; revision: number };
+  begin: () => void;
+  end: () => void;
+};
+
+type EditorProps = {
   mapId: string;
   doc: MapDocument;
   revision: number;
   canEdit: boolean;
   onRevision?: (revision: number) => void;
   toolbarExtra?: (state: { revision: number; saved: boolean; errors: number }) => React.ReactNode;
-}) {
+  replaceHandle?: React.Ref<DraftReplaceHandle>;
+  /** Shown instead of the role's read-only note, e.g. when a published version is on the canvas. */
+  readOnlyNote?: string;
+  /** File name of the PNG/SVG picture, without its extension. */
+  pictureName?: string;
+};
+
+export function MapEditor(props: EditorProps) {
   // The provider gets the nodes with their fixed sizes and a guessed canvas size, so the server already
   // renders every node in place and the browser paints them before the scripts run.
   const [initialNodes] = useState(() => {
@@ -148,14 +166,10 @@ function EditorInner({
   canEdit,
   onRevision,
   toolbarExtra,
-}: {
-  mapId: string;
-  doc: MapDocument;
-  revision: number;
-  canEdit: boolean;
-  onRevision?: (revision: number) => void;
-  toolbarExtra?: (state: { revision: number; saved: boolean; errors: number }) => React.ReactNode;
-}) {
+  replaceHandle,
+  readOnlyNote,
+  pictureName,
+}: EditorProps) {
   const readOnly = !canEdit;
   const flow = useReactFlow<FlowNode>();
   const history = useMapHistory(loadedDoc);
@@ -173,6 +187,8 @@ function EditorInner({
   const measured = useRef(new Map<string, { width: number; height: number }>());
   const reapply = useRef<MapChange[] | null>(null);
   const reloadRequested = useRef(false);
+  const replacing = useRef(false);
+  const [resumed, setResumed] = useState(0);
   const fetcher = useFetcher<SaveResult>({ key: `map-save-${mapId}` });
   const revalidator = useRevalidator();
   const [validated, setValidated] = useState(loadedDoc);
@@ -184,16 +200,18 @@ function EditorInner({
   useEffect(() => {
     if (loadedRevision <= revision) return;
     const local = diffDocuments(saved.current, history.latest.current);
-    if (local.length && !reloadRequested.current) {
+    if (local.length && !reloadRequested.current && !replacing.current) {
       setSaveState({
         kind: "conflict",
         message: `Another lead changed this map (it is now at revision ${loadedRevision}). Your change was not saved; reload to see their version.`,
       });
       return;
     }
-    const next = reapply.current?.length ? applyChanges(loadedDoc, reapply.current) : loadedDoc;
+    const next =
+      reapply.current?.length && !replacing.current ? applyChanges(loadedDoc, reapply.current) : loadedDoc;
     reapply.current = null;
     reloadRequested.current = false;
+    replacing.current = false;
     saved.current = loadedDoc;
     history.reset(next);
     setValidated(next);
@@ -252,7 +270,7 @@ function EditorInner({
   revisionRef.current = revision;
 
   const sendSave = useCallback(() => {
-    if (readOnly || inflight.current || dragging.current) return;
+    if (readOnly || inflight.current || dragging.current || replacing.current) return;
     const current = history.latest.current;
     const changes = diffDocuments(saved.current, current);
     if (!changes.length) return;
@@ -271,7 +289,7 @@ function EditorInner({
     setSaveState((s) => (s.kind === "failed" || s.kind === "pending" ? s : { kind: "pending" }));
     const t = setTimeout(sendSave, AUTOSAVE_MS);
     return () => clearTimeout(t);
-  }, [doc, dragStops, hasPending, readOnly, saveState.kind, sendSave]);
+  }, [doc, dragStops, resumed, hasPending, readOnly, saveState.kind, sendSave]);
 
   useEffect(() => {
     if (fetcher.state !== "idle" || !inflight.current) return;
@@ -280,6 +298,7 @@ function EditorInner({
     const result = fetcher.data;
     if (result?.ok) {
       saved.current = sent;
+      revisionRef.current = result.revision;
       setRevision(result.revision);
       const more = diffDocuments(sent, history.latest.current).length > 0;
       setSaveState({ kind: more ? "pending" : "saved" });
@@ -289,6 +308,25 @@ function EditorInner({
       setSaveState({ kind: "failed", message: result?.message ?? "The server did not answer." });
     }
   }, [fetcher.state, fetcher.data, history.latest]);
+
+  useImperativeHandle(
+    replaceHandle,
+    () => ({
+      state: () => ({
+        unsaved: diffDocuments(saved.current, history.latest.current).length,
+        saving: inflight.current !== null,
+        revision: revisionRef.current,
+      }),
+      begin: () => {
+        replacing.current = true;
+      },
+      end: () => {
+        replacing.current = false;
+        setResumed((n) => n + 1);
+      },
+    }),
+    [history.latest],
+  );
 
   // Leaving with unsaved edits asks first: an edit is never dropped silently.
   useEffect(() => {
@@ -473,7 +511,7 @@ function EditorInner({
     const pos = layoutDocument(history.latest.current, (id) => measured.current.get(id));
     history.set((d) => withPositions(d, pos));
     requestAnimationFrame(() => {
-      flow.fitView({ padding: 0.1 });
+      initialView();
       requestAnimationFrame(() => setLayoutMs(Math.round(performance.now() - t0)));
     });
   };
@@ -536,7 +574,7 @@ function EditorInner({
     const url = format === "png" ? await toPng(el, options) : await toSvg(el, options);
     const a = document.createElement("a");
     a.href = url;
-    a.download = `map-${mapId}.${format}`;
+    a.download = `${pictureName ?? `map-${mapId}`}.${format}`;
     a.click();
   };
 
@@ -555,7 +593,10 @@ function EditorInner({
     : [];
 
   const status = readOnly
-    ? { text: "Read only: your role can view this map but not change it.", tone: "text-muted" }
+    ? {
+        text: readOnlyNote ?? "Read only: your role can view this map but not change it.",
+        tone: "text-muted",
+      }
     : saveState.kind === "saving"
       ? { text: "Saving…", tone: "text-muted" }
       : saveState.kind === "pending" || (saveState.kind === "saved" && hasPending)
