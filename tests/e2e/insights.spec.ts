@@ -57,3 +57,53 @@ test("technicians and the desk do not see insights", async ({ page }) => {
   const res = await page.goto("/insights");
   expect(res?.status()).toBe(403);
 });
+
+test("a lead picks one map version of a board, and the shaded map keeps it", async ({ page }) => {
+  await signIn(page, DEMO.lead);
+  await page.goto("/insights");
+  const form = page.getByRole("form", { name: "Filters" });
+  await form.getByLabel("Board").selectOption({ label: "OM-5150 rev C · Marlow 15" });
+  // Narrowed to the chosen board's versions.
+  const version = form.getByLabel("Map version");
+  await expect(version.locator("optgroup")).toHaveCount(1);
+  await expect(version.locator("optgroup")).toHaveAttribute("label", "OM-5150 rev C · Marlow 15");
+  await version.selectOption({ label: "Power-up, charger and battery · version 1" });
+  await page.getByRole("button", { name: "Apply filters" }).click();
+  await expect(page).toHaveURL(/board=demo-board-om5150/);
+  await expect(page).toHaveURL(/version=demo-map-om5150-v1/);
+  await expect(form.getByLabel("Map version")).toHaveValue("demo-map-om5150-v1");
+  const shaded = page.getByRole("region", { name: "Maps shaded by failure rate" }).getByRole("link");
+  await expect(shaded).toHaveCount(1);
+  await expect(shaded).toHaveAttribute(
+    "href",
+    /^\/insights\/map\/demo-map-om5150-v1\?.*version=demo-map-om5150-v1/,
+  );
+  await shaded.click();
+  await expect(page).toHaveURL(/\/insights\/map\/demo-map-om5150-v1\?.*version=demo-map-om5150-v1/);
+  await expect(page.getByRole("checkbox", { name: "Only runs on version 1" })).toBeChecked();
+});
+
+test("parts to stock name the board, reference, value and package, on the page and in the CSV", async ({
+  page,
+}) => {
+  await signIn(page, DEMO.lead);
+  await page.goto("/insights/parts?board=demo-board-om5150");
+  const table = page.getByRole("table", { name: /Parts used per board and reference designator/ });
+  const first = (await table.locator("tbody tr").first().locator("td").allTextContents()).slice(0, 5);
+
+  const downloading = page.waitForEvent("download");
+  await page.getByRole("link", { name: "Export CSV" }).click();
+  const rows = parse(await readFile((await (await downloading).path())!, "utf8"), { columns: true }) as Array<
+    Record<string, string>
+  >;
+  expect(rows.length).toBeGreaterThan(5);
+  expect(rows.every((r) => r.Board === "OM-5150 rev C")).toBe(true);
+  // The page's first row is the CSV's first row (both ranked by the forecast).
+  const top = rows[0];
+  expect(first).toEqual([top.Board, top.Reference, top.Part, top.Value || "—", top.Package || "—"]);
+  expect(rows.find((r) => r.Reference === "R362")).toMatchObject({
+    Part: "3.3 V standby enable resistor",
+    Value: "4K7",
+    Package: "0201",
+  });
+});

@@ -1,5 +1,6 @@
 import AxeBuilder from "@axe-core/playwright";
 import { expect, type Page, test } from "@playwright/test";
+import { DEMO_PHOTO_MARKERS } from "../../seed/demo-photo-layout";
 import { OM_5150_MAP } from "../../seed/maps/om-5150";
 import { simulateBoard } from "../support/bench-sim";
 import { DEMO, signIn, waitForEmail } from "./support";
@@ -76,7 +77,19 @@ test.describe("bench walker", () => {
     await expect(page.getByRole("heading", { name: "Fault isolated" })).toBeVisible();
     await expect(page.getByTestId("finding-message")).toContainText("R362");
     await expect(page.getByText("Readings that prove it")).toBeVisible();
+    // The cautions follow the fix picked: soldering for a replacement, not for "something else".
+    const cautions = page.getByTestId("fix-cautions");
+    await expect(page.getByRole("radio", { name: /Replace R362/ })).toBeChecked();
+    await expect(cautions).toContainText("Hot air and soldering");
+    await expect(cautions).toContainText("ventilate flux fumes");
+    await expect(cautions).toContainText("Disconnect the battery before any rework");
+    await expect(cautions).toContainText("licensed practice always come first");
+    await page.getByRole("radio", { name: /Something else/ }).check();
+    await expect(cautions).not.toContainText("Hot air and soldering");
+    await expect(cautions).toContainText("Disconnect the battery before any rework");
     await page.getByRole("radio", { name: /Replace R362/ }).check();
+    await expect(cautions).toContainText("Hot air and soldering");
+    const taken = await readingsCount(page);
     await page.getByLabel("Parts used (reference designators)").fill("R362");
     await page.getByRole("radio", { name: "Powers on" }).check();
     await page.getByRole("button", { name: "Record fix and outcome" }).click();
@@ -89,6 +102,104 @@ test.describe("bench walker", () => {
     await expect(page.getByText(/licensed practice always come first/)).toBeVisible();
     await expect(page.getByText(/Never open or probe the mains side/)).toBeVisible();
     await expect(page.getByRole("button", { name: "Print or save as PDF" })).toBeVisible();
+
+    // As printed: the readings, the finding, the fix, the outcome and the cautions; no navigation or buttons.
+    await page.emulateMedia({ media: "print" });
+    await expect(page.getByRole("banner")).toBeHidden();
+    await expect(page.getByRole("navigation", { name: "Main" })).toBeHidden();
+    await expect(page.getByRole("button", { name: "Print or save as PDF" })).toBeHidden();
+    await expect(page.getByRole("link", { name: "Back to the run" })).toBeHidden();
+    await expect(page.getByRole("heading", { name: "Repair report" })).toBeVisible();
+    const readingsTable = page.getByRole("region", { name: "Readings" }).getByRole("table");
+    await expect(readingsTable).toBeVisible();
+    await expect(readingsTable.locator("tbody tr")).toHaveCount(taken);
+    await expect(readingsTable).toContainText("EN_3V3_STBY");
+    await expect(readingsTable).toContainText("missing");
+    const findings = page.getByTestId("report-findings");
+    await expect(findings).toBeVisible();
+    await expect(findings).toContainText("R362 3.3 V standby enable resistor failed");
+    await expect(findings).toContainText("Fix: Replace R362 (4K7)");
+    await expect(findings).toContainText("outcome: Powers on");
+    await expect(page.getByTestId("report-outcome")).toBeVisible();
+    const safety = page.getByRole("region", { name: "Safety" });
+    await expect(safety).toBeVisible();
+    for (const title of [
+      "Lithium battery",
+      "Hot air and soldering",
+      "Isopropyl alcohol",
+      "Static discharge",
+      "Mains adapters",
+    ])
+      await expect(safety).toContainText(title);
+    await expect(safety).not.toContainText("Ultrasonic cleaning");
+    await expect(safety.getByText(/local codes.*licensed practice always come first/)).toBeVisible();
+    // Paper is white and the ink dark even when the screen follows a dark theme.
+    const ink = () =>
+      page.getByRole("heading", { name: "Repair report" }).evaluate((h) => getComputedStyle(h).color);
+    await page.emulateMedia({ media: "screen", colorScheme: "dark" });
+    expect(await ink()).not.toBe("rgb(0, 0, 0)");
+    await page.emulateMedia({ media: "print", colorScheme: "dark" });
+    expect(await ink()).toBe("rgb(0, 0, 0)");
+    // Headless Chromium prints to PDF as the browser's print dialog would.
+    const pdf = await page.pdf({ format: "A4" });
+    expect(pdf.subarray(0, 5).toString("latin1")).toBe("%PDF-");
+    expect(pdf.length).toBeGreaterThan(10_000);
+  });
+
+  test("the probe photo marks the point, and a change to resistance asks to remove power and battery first", async ({
+    page,
+  }) => {
+    await signIn(page, DEMO.tech);
+    await startRun(page, "order");
+    // Power-up order up to the enable of the 3.3 V standby buck, whose series resistor R362 is open.
+    const sim = simulateBoard(OM_5150_MAP, ATTACHED, { part: "r-en3" });
+    const title = page.locator("#check-title");
+    for (let i = 0; i < 8 && (await title.textContent())?.trim() !== "EN_3V3_STBY"; i++)
+      await takeCheck(page, sim);
+    await expect(title).toHaveText("EN_3V3_STBY");
+    await expect(page.getByText("Voltage, board powered", { exact: true })).toBeVisible();
+
+    const figure = page.getByTestId("probe-photo");
+    const photo = figure.getByRole("img", { name: "Board photo: probe point for EN_3V3_STBY" });
+    await expect(photo).toBeVisible();
+    // The demo's drawn picture was served from storage and decoded: its full size, not a broken image.
+    await expect.poll(() => photo.evaluate((img: HTMLImageElement) => img.naturalWidth)).toBe(640);
+    await expect(figure).toContainText("R362 pad 2");
+    const box = (await photo.boundingBox())!;
+    const dot = (await figure.getByTestId("probe-marker").boundingBox())!;
+    const at = DEMO_PHOTO_MARKERS["en-3v3-stby"];
+    expect(Math.abs((dot.x + dot.width / 2 - box.x) / box.width - at.x)).toBeLessThan(0.01);
+    expect(Math.abs((dot.y + dot.height / 2 - box.y) / box.height - at.y)).toBeLessThan(0.01);
+
+    const input = page.getByLabel(/^Reading \(/);
+    await expect(input).toBeFocused();
+    await input.fill(sim.readingText("en-3v3-stby", "voltage"));
+    await input.press("Enter");
+    // Missing with its feeding net present: a resistance reading tells a short from the open resistor.
+    await expect(page.getByText("Resistance to ground, power removed", { exact: true })).toBeVisible();
+    await expect(title).toHaveText("EN_3V3_STBY");
+    await expect(page.getByRole("alert").filter({ hasText: "Remove power and battery first" })).toBeVisible();
+    await expect(page.getByRole("heading", { name: "Remove power and battery first" })).toBeVisible();
+    await expect(page.getByLabel(/^Reading \(/)).toBeDisabled();
+    await expect(figure.getByRole("img")).toBeVisible();
+    await page.getByRole("button", { name: "Power and battery are removed" }).click();
+    await expect(page.getByRole("heading", { name: "Remove power and battery first" })).toHaveCount(0);
+    await expect(page.getByLabel(/^Reading \(/)).toBeEnabled();
+    await expect(page.getByLabel(/^Reading \(/)).toBeFocused();
+  });
+
+  test("a run starts from the board page for members who run diagnoses", async ({ page, browser }) => {
+    await signIn(page, DEMO.tech);
+    await page.goto(`/boards/${BOARD}`);
+    await page.getByRole("link", { name: "Start a run" }).click();
+    await expect(page).toHaveURL(`/runs/new?boardId=${BOARD}`);
+    await expect(page.getByLabel("Published map version")).toHaveValue("demo-map-om5150-v1");
+    const desk = await browser.newPage();
+    await signIn(desk, DEMO.desk);
+    await desk.goto(`/boards/${BOARD}`);
+    await expect(desk.getByRole("heading", { name: "Published versions" })).toBeVisible();
+    await expect(desk.getByRole("link", { name: "Start a run" })).toHaveCount(0);
+    await desk.close();
   });
 
   test("split and best find a late main-rail regulator in fewer readings than power-up order", async ({
@@ -101,6 +212,11 @@ test.describe("bench walker", () => {
     const counts: Record<string, number> = {};
     for (const strategy of ["order", "split", "best"] as const) {
       await startRun(page, strategy);
+      if (strategy === "best")
+        // The demo history's ended runs on this version are what `best` learned from.
+        await expect(page.getByTestId("learned-from")).toContainText(
+          /^Learned from \d{3,} ended runs in this shop\./,
+        );
       counts[strategy] = await walk(page, sim);
       await expect(page.getByTestId("finding-message")).toContainText("U620");
     }
