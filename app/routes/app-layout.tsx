@@ -87,6 +87,17 @@ export default function AppLayoutRoute({ loaderData }: Route.ComponentProps) {
                 Sign out
               </button>
             </Form>
+            {/* Ends this member's sessions on every device, e.g. after a lost tablet or a shared bench PC. */}
+            <Form method="post" action="/logout">
+              <input type="hidden" name="everywhere" value="1" />
+              <button
+                type="submit"
+                className="link text-xs"
+                title="Ends your sessions in every browser and on every device"
+              >
+                Sign out everywhere
+              </button>
+            </Form>
           </div>
         </div>
       </header>

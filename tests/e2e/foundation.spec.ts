@@ -59,10 +59,35 @@ test("repeated failures are throttled with the wait in the message", async ({ pa
 
 test("signing out ends the session", async ({ page }) => {
   await signIn(page, DEMO.desk);
-  await page.getByRole("button", { name: "Sign out" }).click();
+  await page.getByRole("button", { name: "Sign out", exact: true }).click();
   await expect(page).toHaveURL(/\/login/);
   await page.goto("/boards");
   await expect(page).toHaveURL(/\/login\?redirectTo=%2Fboards/);
+});
+
+test("signing out everywhere ends the member's session in another browser too", async ({ page, browser }) => {
+  // A shop of its own: ending every session of a demo account would sign out the other tests.
+  const email = uniqueEmail("everywhere");
+  await page.goto("/signup");
+  await page.getByLabel("Your name").fill("Eve Everywhere");
+  await page.getByLabel("Shop name").fill("Twin Bench Repairs");
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill("a long new password");
+  await page.getByRole("button", { name: "Create shop" }).click();
+  await expect(page).toHaveURL(/\/boards$/);
+
+  const context = await browser.newContext();
+  const other = await context.newPage();
+  await signIn(other, email, "a long new password");
+  await other.goto("/runs");
+  await expect(other).toHaveURL(/\/runs$/);
+
+  await page.getByRole("button", { name: "Sign out everywhere" }).click();
+  await expect(page).toHaveURL(/\/login/);
+  // The other browser still holds its cookie, but the server no longer knows the session.
+  await other.goto("/boards");
+  await expect(other).toHaveURL(/\/login\?redirectTo=%2Fboards/);
+  await context.close();
 });
 
 test("an owner invites a technician who accepts from the e-mail", async ({ page, browser }) => {
@@ -142,4 +167,23 @@ test("pages carry a nonce-based script policy and still hydrate under it", async
     )
     .toBeGreaterThan(0);
   expect(errors).toEqual([]);
+});
+
+test("resource routes and data requests carry nosniff, resource routes a load-nothing policy; no HSTS over http", async ({
+  page,
+}) => {
+  await signIn(page, DEMO.lead);
+  for (const url of ["/healthz", "/dev/outbox.json", "/maps/no-such-map/export"]) {
+    const res = await page.request.get(url, { maxRedirects: 0 });
+    const h = res.headers();
+    expect(h["x-content-type-options"], url).toBe("nosniff");
+    expect(h["content-security-policy"], url).toBe("default-src 'none'; frame-ancestors 'none'");
+    // The e2e server is the plain-http local demo (SECURE_COOKIES=0): HSTS there would lock the host out of http.
+    expect(h["strict-transport-security"], url).toBeUndefined();
+  }
+  const data = await page.request.get("/boards.data");
+  expect(data.status()).toBe(200);
+  expect(data.headers()["x-content-type-options"]).toBe("nosniff");
+  const doc = await page.request.get("/boards");
+  expect(doc.headers()["strict-transport-security"]).toBeUndefined();
 });
