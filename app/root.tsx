@@ -32,6 +32,18 @@ export async function loader({ request }: Route.LoaderArgs) {
   return data({ theme: readTheme(request.headers.get("Cookie")), toast }, { headers });
 }
 
+// Error pages rendered here (an unknown address, a refused request) still need a document title; a page's
+// own meta replaces this one.
+export const meta: Route.MetaFunction = ({ error }) => [
+  {
+    title: isRouteErrorResponse(error)
+      ? `${error.status === 404 ? "Page not found" : error.status === 403 ? "Not allowed" : `Error ${error.status}`} · Railwise`
+      : error
+        ? "Something went wrong · Railwise"
+        : "Railwise",
+  },
+];
+
 export const links: Route.LinksFunction = () => [
   { rel: "icon", href: "/favicon.svg", type: "image/svg+xml" },
 ];
