@@ -354,7 +354,7 @@ export default function MapEditorRoute({ loaderData }: Route.ComponentProps) {
         replaceHandle={editor}
         readOnlyNote={
           viewing
-            ? `Published version ${viewing.number}: read only. Start a new draft from it to change it.`
+            ? `Published version ${viewing.number}: read only.${canEdit ? " Start a new draft from it to change it." : ""}`
             : undefined
         }
         pictureName={`${slug(map.name)}-${viewing ? `v${viewing.number}` : "draft"}`}
