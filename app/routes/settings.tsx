@@ -219,17 +219,59 @@ export default function SettingsRoute({ loaderData, actionData }: Route.Componen
           </>
         }
       />
-      <div className="grid gap-6 lg:grid-cols-2">
-        <section className="card">
-          <h2 className="mb-3 font-semibold">Shop</h2>
-          <Form method="post" {...getFormProps(shopForm)} className="flex flex-col gap-3">
-            <input type="hidden" name="intent" value="shop" />
-            <Field label="Shop name" meta={shopFields.name} />
-            <button type="submit" className="btn self-start">
-              Save name
-            </button>
-          </Form>
-        </section>
+      <div className="grid items-start gap-6 lg:grid-cols-2">
+        <div className="flex flex-col gap-6">
+          <section className="card">
+            <h2 className="mb-3 font-semibold">Shop</h2>
+            <Form method="post" {...getFormProps(shopForm)} className="flex flex-col gap-3">
+              <input type="hidden" name="intent" value="shop" />
+              <Field label="Shop name" meta={shopFields.name} />
+              <button type="submit" className="btn self-start">
+                Save name
+              </button>
+            </Form>
+          </section>
+          <section className="card">
+            <h2 className="mb-3 font-semibold">Invite a member</h2>
+            <Form method="post" {...getFormProps(inviteForm)} className="flex flex-col gap-3">
+              <input type="hidden" name="intent" value="invite" />
+              <Field label="E-mail" meta={inviteFields.email} type="email" />
+              <div className="flex flex-col gap-1">
+                <label htmlFor={inviteFields.role.id} className="text-sm font-medium">
+                  Role
+                </label>
+                <select {...getSelectProps(inviteFields.role)} className="field-input">
+                  {ROLE_VALUES.map((r) => (
+                    <option key={r} value={r}>
+                      {ROLE_LABELS[r]}
+                    </option>
+                  ))}
+                </select>
+                <FieldErrors id={inviteFields.role.errorId} errors={inviteFields.role.errors} />
+              </div>
+              <button
+                type="submit"
+                className="btn btn-primary self-start"
+                disabled={navigation.state === "submitting"}
+              >
+                Send invitation
+              </button>
+            </Form>
+            {invites.length ? (
+              <div className="mt-4">
+                <h3 className="mb-1 text-sm font-medium">Waiting for an answer</h3>
+                <ul className="text-sm text-muted">
+                  {invites.map((i) => (
+                    <li key={i.id}>
+                      {i.email} · {i.role ? ROLE_LABELS[i.role] : ""} · until{" "}
+                      {new Date(i.expiresAt).toLocaleDateString()}
+                    </li>
+                  ))}
+                </ul>
+              </div>
+            ) : null}
+          </section>
+        </div>
         <section className="card" aria-labelledby="terms-h">
           <h2 id="terms-h" className="mb-1 font-semibold">
             Money and terms
@@ -282,46 +324,6 @@ export default function SettingsRoute({ loaderData, actionData }: Route.Componen
               Save money and terms
             </button>
           </Form>
-        </section>
-        <section className="card">
-          <h2 className="mb-3 font-semibold">Invite a member</h2>
-          <Form method="post" {...getFormProps(inviteForm)} className="flex flex-col gap-3">
-            <input type="hidden" name="intent" value="invite" />
-            <Field label="E-mail" meta={inviteFields.email} type="email" />
-            <div className="flex flex-col gap-1">
-              <label htmlFor={inviteFields.role.id} className="text-sm font-medium">
-                Role
-              </label>
-              <select {...getSelectProps(inviteFields.role)} className="field-input">
-                {ROLE_VALUES.map((r) => (
-                  <option key={r} value={r}>
-                    {ROLE_LABELS[r]}
-                  </option>
-                ))}
-              </select>
-              <FieldErrors id={inviteFields.role.errorId} errors={inviteFields.role.errors} />
-            </div>
-            <button
-              type="submit"
-              className="btn btn-primary self-start"
-              disabled={navigation.state === "submitting"}
-            >
-              Send invitation
-            </button>
-          </Form>
-          {invites.length ? (
-            <div className="mt-4">
-              <h3 className="mb-1 text-sm font-medium">Waiting for an answer</h3>
-              <ul className="text-sm text-muted">
-                {invites.map((i) => (
-                  <li key={i.id}>
-                    {i.email} · {i.role ? ROLE_LABELS[i.role] : ""} · until{" "}
-                    {new Date(i.expiresAt).toLocaleDateString()}
-                  </li>
-                ))}
-              </ul>
-            </div>
-          ) : null}
         </section>
       </div>
       <section className="card mt-6">
