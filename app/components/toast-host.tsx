@@ -19,7 +19,7 @@ export function ToastHost({ toast }: { toast: Toast }) {
   return (
     <div
       aria-live="polite"
-      className="pointer-events-none fixed right-4 bottom-4 z-50 flex max-w-sm flex-col gap-2"
+      className="no-print pointer-events-none fixed right-4 bottom-4 z-50 flex max-w-sm flex-col gap-2"
     >
       {shown ? (
         <div

@@ -46,7 +46,7 @@ export default function AppLayoutRoute({ loaderData }: Route.ComponentProps) {
     <div className="flex min-h-screen flex-col">
       <div
         aria-hidden="true"
-        className={`fixed top-0 left-0 z-50 h-0.5 bg-accent transition-all duration-500 ${busy ? "w-2/3 opacity-100" : "w-full opacity-0"}`}
+        className={`no-print fixed top-0 left-0 z-50 h-0.5 bg-accent transition-all duration-500 ${busy ? "w-2/3 opacity-100" : "w-full opacity-0"}`}
       />
       <header className="no-print border-b border-line bg-panel">
         <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-6 gap-y-2 px-4 py-2">

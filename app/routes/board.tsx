@@ -66,10 +66,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       nodeId: findings.nodeId,
       kind: findings.kind,
       n: count(),
-      // The node's name as the map version of each finding calls it (ids are stable, names may change).
+      // The node's name as the map version of each finding calls it (ids are stable, names may change). The
+      // outer columns are named with their table: unqualified, they would resolve to the subquery's own.
       label: sql<
         string | null
-      >`max((select coalesce(v.refdes || ' · ' || v.node_name, v.node_name) from map_version_nodes v where v.map_version_id = ${findings.mapVersionId} and v.node_id = ${findings.nodeId}))`,
+      >`max((select coalesce(v.refdes || ' · ' || v.node_name, v.node_name) from map_version_nodes v where v.map_version_id = "findings"."map_version_id" and v.node_id = "findings"."node_id"))`,
     })
     .from(findings)
     .where(and(eq(findings.shopId, shop.id), eq(findings.boardId, board.id), isNotNull(findings.nodeId)))

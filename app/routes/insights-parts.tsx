@@ -26,7 +26,10 @@ export default function InsightsPartsRoute({ loaderData }: Route.ComponentProps)
   const h = createColumnHelper<PartRow>();
   const dash = (v: string | null) => v ?? <span className="text-muted">—</span>;
   const columns = [
-    h.accessor("boardLabel", { header: "Board" }),
+    h.accessor("boardLabel", {
+      header: "Board",
+      cell: (c) => <span className="whitespace-nowrap">{c.getValue()}</span>,
+    }),
     h.accessor("refdes", {
       header: "Reference",
       sortingFn: "alphanumeric",
@@ -35,7 +38,11 @@ export default function InsightsPartsRoute({ loaderData }: Route.ComponentProps)
     h.accessor((row) => row.name, {
       id: "name",
       header: "Part",
-      cell: (c) => c.getValue() ?? <span className="text-muted">not on the map</span>,
+      cell: (c) => (
+        <span className="inline-block min-w-40">
+          {c.getValue() ?? <span className="text-muted">not on the map</span>}
+        </span>
+      ),
     }),
     h.accessor((row) => row.value, {
       id: "value",
@@ -45,7 +52,7 @@ export default function InsightsPartsRoute({ loaderData }: Route.ComponentProps)
     h.accessor((row) => row.package, {
       id: "package",
       header: "Package",
-      cell: (c) => dash(c.getValue()),
+      cell: (c) => <span className="whitespace-nowrap">{dash(c.getValue())}</span>,
     }),
     ...usage.months.map((m, i) =>
       h.accessor((row) => row.perMonth[i], {
@@ -67,9 +74,10 @@ export default function InsightsPartsRoute({ loaderData }: Route.ComponentProps)
       cell: (c) => <strong className="tabular-nums">{c.getValue()}</strong>,
     }),
   ];
-  // Older months are hidden at first so the table fits; the column chooser brings them back.
+  // Older months are hidden at first so the table fits beside the part's description; the column chooser
+  // brings them back.
   const hidden = Object.fromEntries(
-    usage.months.slice(0, Math.max(0, usage.months.length - 6)).map((m) => [m, false]),
+    usage.months.slice(0, Math.max(0, usage.months.length - 4)).map((m) => [m, false]),
   );
   return (
     <>

@@ -95,6 +95,12 @@ test.describe("bench walker", () => {
     await page.getByRole("button", { name: "Record fix and outcome" }).click();
     await expect(page).toHaveURL(/\/report$/);
     await expect(page.getByRole("heading", { name: "Repair report" })).toBeVisible();
+    // The toast saying so is for the screen only.
+    const toast = page.getByRole("status").filter({ hasText: "Fix and outcome recorded." });
+    await expect(toast).toBeVisible();
+    await page.emulateMedia({ media: "print" });
+    await expect(toast).toBeHidden();
+    await page.emulateMedia({ media: "screen" });
     await expect(page.getByTestId("report-outcome")).toHaveText("Powers on");
     await expect(page.getByTestId("report-findings")).toContainText("R362");
     await expect(page.getByTestId("report-findings")).toContainText("parts used: R362");
