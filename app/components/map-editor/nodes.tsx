@@ -24,6 +24,13 @@ function volts(v: number) {
   return `${Number(v.toPrecision(4))} V`;
 }
 
+/** A rail's live window as the map states it: a min..max window (e.g. a battery pack) or nominal ± tolerance. */
+function railDetail(n: RailFlowNode["data"]["node"]) {
+  const w = n.expected.voltage;
+  if (w && "min" in w) return `${Number(w.min.toPrecision(4))}–${volts(w.max)}`;
+  return `${volts(n.nominalV)} ±${n.tolerancePct}%`;
+}
+
 function Shell({
   kind,
   selected,
@@ -140,7 +147,7 @@ const RailView = memo(function RailView({ data, selected }: NodeProps<RailFlowNo
       mark={data.mark}
       stage={data.stage}
       title={n.name}
-      detail={`${volts(n.nominalV)} ±${n.tolerancePct}%`}
+      detail={railDetail(n)}
       badge={n.stage}
       inHandle
       outHandle
