@@ -450,6 +450,8 @@ export default function RunRoute({ loaderData }: Route.ComponentProps) {
         needsDisassembly: false,
         probeSeconds: 0,
         skippedBefore: false,
+        notes: null,
+        safetyNotes: null,
       }
     : view.step;
   const current = view.readings.filter((r) => r.round === view.run.round);
@@ -736,6 +738,18 @@ function CheckCard({
         <span className="font-medium">Why this check: </span>
         {step.why}
       </p>
+      {step.notes ? (
+        <p className="text-sm">
+          <span className="font-medium">From the map: </span>
+          {step.notes}
+        </p>
+      ) : null}
+      {step.safetyNotes ? (
+        <p className="rounded-md border border-warn bg-warn-soft p-2 text-sm" data-testid="net-safety">
+          <span className="font-medium">Careful: </span>
+          {step.safetyNotes}
+        </p>
+      ) : null}
       {canWrite ? (
         <form
           className="flex flex-col gap-3"
@@ -899,6 +913,15 @@ function FindingCard({
           <p className="text-xs text-muted">
             Success rates are this shop's results on this board after each fix.
           </p>
+          {f.part.safetyNotes ? (
+            <p
+              className="mt-2 rounded-md border border-warn bg-warn-soft p-2 text-sm"
+              data-testid="part-safety"
+            >
+              <span className="font-medium">The map's safety note for {f.part.refdes}: </span>
+              {f.part.safetyNotes}
+            </p>
+          ) : null}
         </div>
       ) : null}
       {canWrite && !recorded ? (

@@ -412,6 +412,9 @@ export type Step = {
   leadStepId: string | null;
   skippedBefore: boolean;
   replacesId: string | null;
+  /** The author's notes and safety notes on this net, shown with the check. */
+  notes: string | null;
+  safetyNotes: string | null;
 };
 
 function stepFrom(
@@ -441,6 +444,8 @@ function stepFrom(
     leadStepId: null,
     skippedBefore: false,
     replacesId: null,
+    notes: node.notes ?? null,
+    safetyNotes: node.safetyNotes ?? null,
     ...extra,
   };
 }
@@ -645,8 +650,16 @@ function partInfo(doc: MapDocument, nodeId: string) {
   const n = doc.nodes.find((x) => x.id === nodeId);
   if (!n) return null;
   if (n.kind === "part")
-    return { id: n.id, refdes: n.refdes, name: n.name, value: n.value ?? null, fixes: n.fixes };
-  return { id: n.id, refdes: "", name: n.name, value: null, fixes: [] };
+    return {
+      id: n.id,
+      refdes: n.refdes,
+      name: n.name,
+      value: n.value ?? null,
+      fixes: n.fixes,
+      safetyNotes: n.safetyNotes ?? null,
+    };
+  const safetyNotes = n.kind === "rail" || n.kind === "signal" ? (n.safetyNotes ?? null) : null;
+  return { id: n.id, refdes: "", name: n.name, value: null, fixes: [], safetyNotes };
 }
 
 function netStates(a: Analysis, netOrder: string[]): Map<string, NetState> {

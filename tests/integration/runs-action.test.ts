@@ -428,6 +428,8 @@ describe("help and lead steps", () => {
     expect(v.step.netId).toBe("vbat");
     expect(v.step.leadStepId).toBeTruthy();
     expect(v.step.why).toContain("Check the pack first");
+    // The map's own safety note on the battery pack's rail comes with the check.
+    expect(v.step.safetyNotes).toBe("Live whenever the pack is connected.");
     // Opening the run marks the lead's notice read.
     await loadRun(shop.cookies.lead, runId);
     const after = await db.select().from(notices).where(eq(notices.userId, shop.userIds.lead)).all();
