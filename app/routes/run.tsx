@@ -113,6 +113,8 @@ type ActionResult =
       intent: string;
       replay?: boolean;
       reading?: { id: string; verdict: string; valueText: string };
+      /** After a reading or a skip: the run as it now stands, so the walker needs no second request. */
+      view?: RunView;
     }
   | {
       ok: false;
@@ -170,11 +172,13 @@ export async function action({ request, params }: Route.ActionArgs) {
           skip: v.intent === "skip",
           note: v.intent === "skip" ? (v.note ?? "Can't reach the probe point") : null,
         });
+        const view = await getRunView(shop.id, params.runId);
         return data<ActionResult>({
           ok: true,
           intent: v.intent,
           replay: answer.replay,
           reading: answer.reading,
+          ...(view ? { view } : {}),
         });
       }
       case "note":
@@ -295,8 +299,15 @@ function clientId() {
 }
 
 export default function RunRoute({ loaderData }: Route.ComponentProps) {
-  const { view, canWrite, canHelp, canExtendMap, conditionLabel } = loaderData;
-  const fetcher = useFetcher<ActionResult>({ key: `reading-${view.run.id}` });
+  const { canWrite, canHelp, canExtendMap, conditionLabel } = loaderData;
+  const fetcher = useFetcher<ActionResult>({ key: `reading-${loaderData.view.run.id}` });
+  // A saved reading answers with the run as it now stands; it shows until the loader has caught up with it
+  // (the regular poll), since every reading moves the run's next sequence number on.
+  const answered = fetcher.data?.ok ? fetcher.data.view : undefined;
+  const view =
+    answered && answered.run.id === loaderData.view.run.id && answered.nextSeq > loaderData.view.nextSeq
+      ? answered
+      : loaderData.view;
   const revalidator = useRevalidator();
   const navigation = useNavigation();
   const [pending, setPending] = useState<Pending | null>(null);
@@ -359,7 +370,8 @@ export default function RunRoute({ loaderData }: Route.ComponentProps) {
       setMessage(null);
       setCorrecting(null);
       tries.current = 0;
-      setStaleSeq(view.nextSeq);
+      // The answer carries the fresh run; only an answer without it (none today) needs the loader again.
+      setStaleSeq(r.view ? null : view.nextSeq);
     } else if (r.offline) {
       store({ ...pending, state: "unsaved" });
     } else {
