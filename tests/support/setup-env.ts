@@ -1,9 +1,12 @@
 import { randomUUID } from "node:crypto";
+import { rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
+import { afterAll } from "vitest";
 
 // Every test file gets its own fresh database (vitest re-imports modules per file), migrated on first import:
 // a temporary SQLite file by default, or with TEST_LIBSQL=1 a real libSQL server (sqld) started for the file.
+// Both are removed when the file's tests are done (a worker process may be ended without an exit event).
 process.env.NODE_ENV = "test";
 process.env.MAIL_CAPTURE ??= "1";
 process.env.SESSION_SECRET = "test-session-secret-0123456789";
@@ -11,7 +14,13 @@ delete process.env.SEED_DEMO;
 
 if (process.env.TEST_LIBSQL === "1") {
   const { startSqld } = await import("./libsql-server");
-  process.env.DATABASE_URL = (await startSqld()).url;
+  const sqld = await startSqld();
+  process.env.DATABASE_URL = sqld.url;
+  afterAll(() => sqld.stop());
 } else {
-  process.env.DATABASE_URL = `file:${path.join(tmpdir(), `railwise-test-${randomUUID()}.db`)}`;
+  const file = path.join(tmpdir(), `railwise-test-${randomUUID()}.db`);
+  process.env.DATABASE_URL = `file:${file}`;
+  afterAll(() => {
+    for (const suffix of ["", "-wal", "-shm"]) rmSync(`${file}${suffix}`, { force: true });
+  });
 }
