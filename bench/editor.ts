@@ -165,7 +165,8 @@ async function main() {
       );
       await page.waitForLoadState("load");
     }
-    const openMs = Math.round(Math.min(...opens));
+    // The worst of the three opens and layouts is reported: the first layout pays for the JIT, as a user's would.
+    const openMs = Math.round(Math.max(...opens));
     const nav = await page.evaluate(() => {
       const e = performance.getEntriesByType("navigation")[0] as PerformanceNavigationTiming;
       return {
@@ -190,7 +191,7 @@ async function main() {
       layouts.push(Number(await page.getByTestId("map-editor").getAttribute("data-layout-ms")));
       await page.waitForSelector("[data-save-state=saved]", { timeout: 30_000 });
     }
-    const layoutMs = Math.round(Math.min(...layouts));
+    const layoutMs = Math.round(Math.max(...layouts));
 
     // One edit: rename a rail in the side panel, then count the bytes of everything that crosses the wire.
     const traffic: Array<{ req: Request; bytes: number }> = [];
