@@ -1,12 +1,6 @@
 import { Link } from "react-router";
-import {
-  cautionsFor,
-  CONDITION_LABELS,
-  fixKindsOfRun,
-  LOCAL_CODES_LINE,
-  OUTCOME_LABELS,
-  STRATEGY_LABELS,
-} from "~/lib/walker";
+import { CautionList } from "~/components/caution-list";
+import { cautionsFor, CONDITION_LABELS, fixKindsOfRun, OUTCOME_LABELS, STRATEGY_LABELS } from "~/lib/walker";
 import { notFound, requireMember } from "~/server/auth.server";
 import { getRunView } from "~/server/runs.server";
 import type { Route } from "./+types/run-report";
@@ -188,15 +182,7 @@ export default function RunReportRoute({ loaderData }: Route.ComponentProps) {
         <h2 id="safety-title" className="text-lg font-semibold">
           Safety
         </h2>
-        <ul className="mt-2 flex flex-col gap-1 text-sm">
-          {cautions.map((c) => (
-            <li key={c.id}>
-              <span className="font-medium">{c.title}: </span>
-              {c.text}
-            </li>
-          ))}
-        </ul>
-        <p className="mt-2 text-sm">{LOCAL_CODES_LINE}</p>
+        <CautionList cautions={cautions} />
       </section>
     </article>
   );

@@ -10,6 +10,7 @@ import {
   useRevalidator,
 } from "react-router";
 import { z } from "zod";
+import { CautionList } from "~/components/caution-list";
 import { endRunOnlyRevalidation, revalidateRunOnly } from "~/components/run-revalidation";
 import { can } from "~/lib/permissions";
 import {
@@ -17,7 +18,6 @@ import {
   CONDITION_LABELS,
   cautionsFor,
   LEARNED_FROM_COUNTS,
-  LOCAL_CODES_LINE,
   learnedFromText,
   MODE_LABELS,
   OUTCOME_LABELS,
@@ -1049,15 +1049,7 @@ function FixCautions({ cautions }: { cautions: Caution[] }) {
       <h3 id="fix-cautions-title" className="font-semibold">
         Before this work
       </h3>
-      <ul className="mt-1 flex flex-col gap-1">
-        {cautions.map((c) => (
-          <li key={c.id}>
-            <span className="font-medium">{c.title}: </span>
-            {c.text}
-          </li>
-        ))}
-      </ul>
-      <p className="mt-2 text-xs">{LOCAL_CODES_LINE}</p>
+      <CautionList cautions={cautions} small />
     </section>
   );
 }
