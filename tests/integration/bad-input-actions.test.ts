@@ -1,4 +1,3 @@
-import { sql } from "drizzle-orm";
 import { parse } from "csv-parse/sync";
 import fc from "fast-check";
 import { beforeAll, describe, expect, it, vi } from "vitest";
@@ -22,10 +21,10 @@ import * as reset from "~/routes/reset-password";
 import * as runRoute from "~/routes/run";
 import * as tokens from "~/routes/settings-tokens";
 import * as signup from "~/routes/signup";
-import { db } from "~/server/db.server";
 import { type FlatTable, toCsv } from "~/server/insights-tables.server";
 import { createShopWorld, type World } from "../support/access-table";
 import { call, formRequest } from "../support/requests";
+import { answerText, tableCounts } from "../support/db-counts";
 
 // The actions the first bad-input file does not fuzz: sign-in and account pages, the customer's quote page,
 // job and run intents, API-token creation, upload names and types, the insights filter parser and the CSV
@@ -37,25 +36,8 @@ beforeAll(async () => {
 }, 60_000);
 
 /** Row counts of every table except `skip` (e.g. the sign-in throttle's own records). */
-async function counts(skip: string[] = []) {
-  const tables = (await db.all<{ name: string }>(
-    sql`select name from sqlite_master where type = 'table' and name not like 'sqlite_%' and name not like '%drizzle%'`,
-  )) as Array<{ name: string }>;
-  const out: Record<string, number> = {};
-  for (const { name } of tables) {
-    if (skip.includes(name)) continue;
-    out[name] = (
-      (await db.get<{ n: number }>(sql.raw(`select count(*) as n from "${name}"`))) as { n: number }
-    ).n;
-  }
-  return out;
-}
-
-async function text(res: Awaited<ReturnType<typeof call>>) {
-  if (typeof res.data === "string") return res.data;
-  if (res.data !== undefined) return JSON.stringify(res.data);
-  return res.response ? res.response.clone().text() : "";
-}
+const counts = tableCounts;
+const text = answerText;
 const expectMessage = (body: string) => expect(body).toMatch(/[A-Za-z]{3,}.*[A-Za-z]{3,}/);
 
 const value = fc.oneof(

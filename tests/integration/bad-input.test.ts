@@ -1,5 +1,4 @@
 import { readdirSync } from "node:fs";
-import { sql } from "drizzle-orm";
 import fc from "fast-check";
 import { beforeAll, describe, expect, it, vi } from "vitest";
 
@@ -28,9 +27,9 @@ import * as settingsRoute from "~/routes/settings";
 import * as metersRoute from "~/routes/settings-meters";
 import * as tokensRoute from "~/routes/settings-tokens";
 import * as themeRoute from "~/routes/theme";
-import { db } from "~/server/db.server";
 import { createShopWorld, type World } from "../support/access-table";
 import { call, formRequest } from "../support/requests";
+import { answerText, tableCounts } from "../support/db-counts";
 import { type Loaded, loadRun } from "../support/runs";
 
 // Bad input gets a clear 4xx and changes nothing: arbitrary bodies to every action, odd reading text, huge and
@@ -42,23 +41,8 @@ beforeAll(async () => {
 }, 60_000);
 
 /** Row counts of every table, to prove a refused request wrote nothing. */
-async function counts() {
-  const tables = (await db.all<{ name: string }>(
-    sql`select name from sqlite_master where type = 'table' and name not like 'sqlite_%' and name not like '%drizzle%'`,
-  )) as Array<{ name: string }>;
-  const out: Record<string, number> = {};
-  for (const { name } of tables)
-    out[name] = (
-      (await db.get<{ n: number }>(sql.raw(`select count(*) as n from "${name}"`))) as { n: number }
-    ).n;
-  return out;
-}
-
-async function text(res: Awaited<ReturnType<typeof call>>) {
-  if (typeof res.data === "string") return res.data;
-  if (res.data !== undefined) return JSON.stringify(res.data);
-  return res.response ? res.response.clone().text() : "";
-}
+const counts = tableCounts;
+const text = answerText;
 
 /** A refusal names the problem in words (a message or a field error), not an empty body. */
 function expectMessage(body: string) {
