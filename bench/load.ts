@@ -28,6 +28,9 @@ const PORT = Number(process.env.BENCH_PORT ?? 3481);
 const ORIGIN = `http://127.0.0.1:${PORT}`;
 const CONNECTIONS = 50;
 const RATE = Number(process.env.BENCH_RATE ?? 150);
+// autocannon paces each connection in whole requests per second: the rate must divide evenly among them.
+if (!Number.isInteger(RATE / 50) || RATE <= 0)
+  throw new Error(`BENCH_RATE must be a positive multiple of 50 (one request/s per connection); got ${RATE}`);
 const SOAK_S = Number(process.env.BENCH_SOAK_S ?? 300);
 const DB_FILE = `./data/h8-bench-load-${PORT}.db`;
 const BOARD = "demo-board-om5150";
@@ -96,7 +99,9 @@ async function prepareData() {
 }
 
 function startServer(): ChildProcess {
-  return spawn(process.execPath, ["server.mjs"], {
+  // BENCH_NODE_ARGS, e.g. "--cpu-prof --cpu-prof-dir=/tmp/prof", is passed to the server's node.
+  const nodeArgs = (process.env.BENCH_NODE_ARGS ?? "").split(" ").filter(Boolean);
+  return spawn(process.execPath, [...nodeArgs, "server.mjs"], {
     env: {
       ...process.env,
       NODE_ENV: "production",
