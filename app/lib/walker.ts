@@ -5,6 +5,8 @@ import type { MapDocument, Mode, Stage } from "~/lib/engine";
 // quantities.
 
 const STAGE_RANK: Record<Stage, number> = { G3: 0, S5: 1, S4: 2, S3: 3, S0: 4 };
+/** ACPI states in power-up order (G3 mechanical off first, S0 working last). */
+export const STAGES_IN_ORDER: Stage[] = ["G3", "S5", "S4", "S3", "S0"];
 
 export const CONDITIONS = ["charger", "battery", "both"] as const;
 export type BoardCondition = (typeof CONDITIONS)[number];
@@ -89,23 +91,20 @@ export type StageSummary = {
 
 /** Where the run stands in the power-up: per stage, how many nets are proven present or missing. */
 export function stageStrip(stages: Map<string, Stage>, state: Map<string, NetState>): StageSummary[] {
-  const order: Stage[] = ["G3", "S5", "S4", "S3", "S0"];
-  return order
-    .map((stage) => {
-      const ids = [...stages].filter(([, s]) => s === stage).map(([id]) => id);
-      const powered = ids.filter((id) => state.get(id) !== "unpowered");
-      const present = powered.filter((id) => state.get(id) === "present").length;
-      const missing = powered.filter((id) => state.get(id) === "missing").length;
-      const s: StageSummary["state"] = !powered.length
-        ? "off"
-        : missing
-          ? "fault"
-          : present === powered.length
-            ? "ok"
-            : "open";
-      return { stage, nets: ids.length, present, missing, state: s };
-    })
-    .filter((s) => s.nets > 0);
+  return STAGES_IN_ORDER.map((stage) => {
+    const ids = [...stages].filter(([, s]) => s === stage).map(([id]) => id);
+    const powered = ids.filter((id) => state.get(id) !== "unpowered");
+    const present = powered.filter((id) => state.get(id) === "present").length;
+    const missing = powered.filter((id) => state.get(id) === "missing").length;
+    const s: StageSummary["state"] = !powered.length
+      ? "off"
+      : missing
+        ? "fault"
+        : present === powered.length
+          ? "ok"
+          : "open";
+    return { stage, nets: ids.length, present, missing, state: s };
+  }).filter((s) => s.nets > 0);
 }
 
 export const VERDICT_TONE: Record<string, "ok" | "warn" | "bad" | "info"> = {

@@ -23,6 +23,7 @@ import {
   OUTCOME_LABELS,
   parseRefdesList,
   powerClass,
+  STAGES_IN_ORDER,
   STRATEGY_LABELS,
   VERDICT_TONE,
 } from "~/lib/walker";
@@ -1255,7 +1256,8 @@ const NET_STATE = {
 } as const;
 
 function MapView({ nets }: { nets: RunView["nets"] }) {
-  const stages = [...new Set(nets.map((n) => n.stage))];
+  // Grouped by stage in power-up order, as the strip above reads; within a stage, in the map's order.
+  const stages = STAGES_IN_ORDER.filter((stage) => nets.some((n) => n.stage === stage));
   return (
     <section className="card" aria-labelledby="map-title">
       <h2 id="map-title" className="font-semibold">
