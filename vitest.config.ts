@@ -9,6 +9,7 @@ export default defineConfig({
     exclude: ["tests/e2e/**", "node_modules/**"],
     environment: "node",
     setupFiles: ["tests/support/setup-env.ts"],
+    globalSetup: ["tests/support/global-setup.ts"],
     testTimeout: 30_000,
     hookTimeout: 60_000,
   },

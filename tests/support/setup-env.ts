@@ -1,8 +1,8 @@
 import { randomUUID } from "node:crypto";
-import { rmSync } from "node:fs";
+import { appendFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
-import { afterAll } from "vitest";
+import { afterAll, inject } from "vitest";
 
 // Every test file gets its own fresh database (vitest re-imports modules per file), migrated on first import:
 // a temporary SQLite file by default, or with TEST_LIBSQL=1 a real libSQL server (sqld) started for the file.
@@ -16,6 +16,7 @@ if (process.env.TEST_LIBSQL === "1") {
   const { startSqld } = await import("./libsql-server");
   const sqld = await startSqld();
   process.env.DATABASE_URL = sqld.url;
+  appendFileSync(inject("sqldPidsFile"), `${sqld.process.pid}\n`);
   afterAll(() => sqld.stop());
 } else {
   const file = path.join(tmpdir(), `railwise-test-${randomUUID()}.db`);
