@@ -375,6 +375,19 @@ test("a part's safety notes and an edited fix label are saved", async ({ page })
   await expect(page.getByLabel("Label of fix 1")).toHaveValue("Replace U1 and check its input capacitor");
 });
 
+/** A node's box once the canvas has stopped moving (the view settles just after a load or reload). */
+async function settledBox(page: Page, name: string) {
+  let last = await node(page, name).boundingBox();
+  for (let i = 0; i < 30; i++) {
+    await page.waitForTimeout(100);
+    const now = await node(page, name).boundingBox();
+    if (last && now && Math.abs(now.x - last.x) < 0.5 && Math.abs(now.y - last.y) < 0.5) return now;
+    last = now;
+  }
+  if (!last) throw new Error(`${name} has no box`);
+  return last;
+}
+
 test("several nodes selected by Ctrl-click or a Shift box move together and stay moved after a reload", async ({
   page,
 }) => {
@@ -386,7 +399,7 @@ test("several nodes selected by Ctrl-click or a Shift box move together and stay
   await node(page, "Buck regulator").click();
   await node(page, "LDO regulator").click({ modifiers: ["Control"] });
   await expect(page.getByText("2 nodes selected.")).toBeVisible();
-  const box = (await node(page, "LDO regulator").boundingBox())!;
+  const box = await settledBox(page, "LDO regulator");
   await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
   await page.mouse.down();
   await page.mouse.move(box.x + box.width / 2 + 60, box.y + box.height / 2 + 90, { steps: 10 });
@@ -403,8 +416,8 @@ test("several nodes selected by Ctrl-click or a Shift box move together and stay
   for (const id of ["chg", "vin", "v5", "v3"]) expect(after[id], id).toEqual(before[id]);
 
   // Shift-drag a box around the two output rails, then drag them as one.
-  const a = (await node(page, "OUT_5V").boundingBox())!;
-  const b = (await node(page, "OUT_3V3").boundingBox())!;
+  const a = await settledBox(page, "OUT_5V");
+  const b = await settledBox(page, "OUT_3V3");
   const left = Math.min(a.x, b.x) - 12;
   const top = Math.min(a.y, b.y) - 12;
   const right = Math.max(a.x + a.width, b.x + b.width) + 12;
