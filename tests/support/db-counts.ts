@@ -7,13 +7,15 @@ export async function tableCounts(skip: string[] = []) {
   const tables = (await db.all<{ name: string }>(
     sql`select name from sqlite_master where type = 'table' and name not like 'sqlite_%' and name not like '%drizzle%'`,
   )) as Array<{ name: string }>;
+  const names = tables.map((t) => t.name).filter((name) => !skip.includes(name));
+  // One statement for all tables: against a libSQL server every statement is a network round trip.
+  const rows = (await db.all<{ name: string; n: number }>(
+    sql.raw(
+      names.map((name) => `select '${name}' as name, count(*) as n from "${name}"`).join(" union all "),
+    ),
+  )) as Array<{ name: string; n: number }>;
   const out: Record<string, number> = {};
-  for (const { name } of tables) {
-    if (skip.includes(name)) continue;
-    out[name] = (
-      (await db.get<{ n: number }>(sql.raw(`select count(*) as n from "${name}"`))) as { n: number }
-    ).n;
-  }
+  for (const name of names) out[name] = Number(rows.find((r) => r.name === name)?.n);
   return out;
 }
 
