@@ -206,6 +206,84 @@ function runCannon(opts: autocannon.Options): Promise<autocannon.Result> {
   return new Promise((resolve, reject) => autocannon(opts, (err, r) => (err ? reject(err) : resolve(r))));
 }
 
+/** CPU time (user + system, ms) of the server and its worker processes so far, from /proc. */
+const cpuMs = (pid: number): number => {
+  const fields = readFileSync(`/proc/${pid}/stat`, "utf8").split(") ")[1].split(" ");
+  // utime and stime are fields 14 and 15 of stat, in clock ticks (100 per second on Linux).
+  const own = (Number(fields[11]) + Number(fields[12])) * 10;
+  let children: number[] = [];
+  try {
+    children = readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8").trim().split(/\s+/).filter(Boolean).map(Number);
+  } catch {
+    children = [];
+  }
+  return children.reduce((sum, child) => sum + cpuMs(child), own);
+};
+
+/**
+ * BENCH_PROBE=1: instead of the soak, sends each kind of request one after another and prints the server's CPU
+ * time per request of that kind: where the capacity of the machine goes (not a target, a diagnosis).
+ */
+async function probeCpu(
+  pid: number,
+  conns: Conn[],
+  cookies: { tech: string; lead: string; analyst: string },
+  resync: (c: Conn, kind: Kind) => Promise<void>,
+) {
+  const N = Number(process.env.BENCH_PROBE_N ?? 100);
+  for (const c of conns) {
+    await resync(c, "reading");
+    await resync(c, "save");
+  }
+  // BENCH_PROBE_ONLY=<text>: only the kinds whose label contains it (to profile one kind at a time).
+  const only = process.env.BENCH_PROBE_ONLY ?? "";
+  const measure = async (label: string, send: (i: number) => Promise<Response>) => {
+    if (!label.includes(only)) return;
+    await send(0); // warm
+    const cpu0 = cpuMs(pid);
+    const t0 = performance.now();
+    let bad = 0;
+    for (let i = 1; i <= N; i++) {
+      const res = await send(i);
+      await res.arrayBuffer();
+      if (res.status >= 300) bad++;
+    }
+    const cpu = (cpuMs(pid) - cpu0) / N;
+    const wall = (performance.now() - t0) / N;
+    log(`probe ${label.padEnd(40)} cpu ${cpu.toFixed(1)} ms/request  wall ${wall.toFixed(1)} ms  non-2xx ${bad}`);
+  };
+  const get = (path: string, cookie: string) => () => fetch(`${ORIGIN}${path}`, { headers: { Cookie: cookie } });
+  await measure("reading", async (i) => {
+    const c = conns[i % conns.length];
+    const [netId, text] = READINGS[(c.seq - 1) % READINGS.length];
+    const res = await post(`/runs/${c.runId}.data`, cookies.tech, {
+      intent: "reading",
+      id: `${c.runId}-${c.seq}-probe${i}`,
+      netId,
+      mode: "voltage",
+      text,
+      expectedSeq: String(c.seq),
+    });
+    if (res.ok) c.seq++;
+    else await resync(c, "reading");
+    return res;
+  });
+  await measure("save", async (i) => {
+    const c = conns[i % conns.length];
+    c.saves++;
+    const res = await fetch(`${ORIGIN}/maps/${c.mapId}.data`, {
+      method: "POST",
+      headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: ORIGIN, Cookie: cookies.lead },
+      body: saveBody(c),
+    });
+    if (res.ok) c.revision++;
+    else await resync(c, "save");
+    return res;
+  });
+  for (const path of [...PAGES, `/runs/${conns[0].runId}`]) await measure(`page ${path}`, get(path, cookies.tech));
+  for (const path of INSIGHTS_PAGES) await measure(`insights ${path}`, get(path, cookies.analyst));
+}
+
 async function main() {
   if (!existsSync(`${BUILD}/server/index.js`)) {
     log(`building into ${BUILD} …`);
@@ -353,6 +431,10 @@ async function main() {
 
     // Warm-up (not measured): JIT, caches, SQLite pages.
     await phase(3, RATE);
+    if (process.env.BENCH_PROBE === "1") {
+      await probeCpu(server.pid!, conns, { tech, lead, analyst }, resync);
+      return;
+    }
     await new Promise((r) => setTimeout(r, 500));
     // A warm-up request cut off at its end may have saved a reading whose answer never came: start in step.
     for (const c of conns) {

@@ -7,19 +7,23 @@ import {
   type SortingState,
   useReactTable,
 } from "@tanstack/react-table";
-import { useMemo, useState } from "react";
+import { useState } from "react";
 import { Link, useSearchParams } from "react-router";
 import { EmptyState, PageHeader } from "~/components/page-header";
 import { useMember } from "~/components/use-member";
 import { JOB_STATE_LABELS, JOB_STATES, type JobState } from "~/lib/job-states";
 import { requireMember } from "~/server/auth.server";
-import { type JobListRow, listJobs } from "~/server/jobs.server";
+import { type JobListRow, type JobStation, listJobs } from "~/server/jobs.server";
 import type { Route } from "./+types/jobs";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { shop } = await requireMember(request, { permission: "view:jobs" });
+  const asked = new URL(request.url).searchParams.get("state") ?? "";
+  // An unknown state shows the open jobs, as the page does without one.
+  const state: JobState | "" = (JOB_STATES as readonly string[]).includes(asked) ? (asked as JobState) : "";
+  const { rows, stations } = await listJobs(shop.id, state);
   // "Now" comes from the server so the waiting times render the same on server and client.
-  return { jobs: await listJobs(shop.id), now: Date.now() };
+  return { rows, stations, state, now: Date.now() };
 }
 
 // The main line of the repair, in order; declined branches off before closing.
@@ -34,15 +38,15 @@ const LINE: JobState[] = [
 ];
 
 export default function JobsRoute({ loaderData }: Route.ComponentProps) {
-  const { jobs, now } = loaderData;
+  const { rows, stations, state: stateFilter, now } = loaderData;
   const { can } = useMember();
-  const [params, setParams] = useSearchParams();
-  const stateFilter = (params.get("state") ?? "") as JobState | "";
-  const filtered = useMemo(
-    () =>
-      stateFilter ? jobs.filter((j) => j.state === stateFilter) : jobs.filter((j) => j.state !== "closed"),
-    [jobs, stateFilter],
-  );
+  const [, setParams] = useSearchParams();
+  const total = Object.values(stations).reduce((n, s) => n + s.count, 0);
+  const caption = stateFilter
+    ? stateFilter === "closed" && stations.closed.count > rows.length
+      ? `${JOB_STATE_LABELS.closed}: the ${rows.length} most recent of ${stations.closed.count}`
+      : JOB_STATE_LABELS[stateFilter]
+    : "Open jobs";
   return (
     <>
       <PageHeader
@@ -56,14 +60,14 @@ export default function JobsRoute({ loaderData }: Route.ComponentProps) {
           ) : null
         }
       />
-      {jobs.length === 0 ? (
+      {total === 0 ? (
         <EmptyState title="No jobs yet">The front desk opens a job when a device comes in.</EmptyState>
       ) : (
         <>
-          <StateLine jobs={jobs} current={stateFilter} now={now} />
+          <StateLine stations={stations} current={stateFilter} now={now} />
           <JobTable
-            rows={filtered}
-            caption={stateFilter ? JOB_STATE_LABELS[stateFilter] : "Open jobs"}
+            rows={rows}
+            caption={caption}
             onClear={stateFilter ? () => setParams({}) : undefined}
           />
         </>
@@ -72,22 +76,25 @@ export default function JobsRoute({ loaderData }: Route.ComponentProps) {
   );
 }
 
-/** The per-state view: the repair line as a row of stations, each with its count and its oldest jobs. */
-function StateLine({ jobs, current, now }: { jobs: JobListRow[]; current: JobState | ""; now: number }) {
-  const byState = new Map<JobState, JobListRow[]>();
-  for (const s of JOB_STATES) byState.set(s, []);
-  for (const j of jobs) byState.get(j.state)!.push(j);
+/**
+ * The per-state view: the repair line as a row of stations, each with its count and the jobs that have waited
+ * longest in it (closed: the last ones closed).
+ */
+function StateLine({
+  stations,
+  current,
+  now,
+}: {
+  stations: Record<JobState, JobStation>;
+  current: JobState | "";
+  now: number;
+}) {
   const station = (s: JobState) => {
-    const list = byState.get(s)!;
-    const oldest = [...list].sort(
-      (a, b) => (a.stateChangedAt ?? a.createdAt) - (b.stateChangedAt ?? b.createdAt),
-    );
+    const { count, numbers, oldestAt } = stations[s];
     const active = current === s;
     // How long the oldest job has sat in this state: where work is piling up (not shown for closed).
     const waitedDays =
-      oldest.length && s !== "closed"
-        ? Math.floor((now - (oldest[0].stateChangedAt ?? oldest[0].createdAt)) / 86_400_000)
-        : null;
+      oldestAt !== null && s !== "closed" ? Math.floor((now - oldestAt) / 86_400_000) : null;
     return (
       <li key={s} className="min-w-0 flex-1">
         <Link
@@ -97,7 +104,7 @@ function StateLine({ jobs, current, now }: { jobs: JobListRow[]; current: JobSta
         >
           <span className="block truncate text-xs font-medium text-muted">{JOB_STATE_LABELS[s]}</span>
           <span className="flex items-baseline justify-between gap-1">
-            <span className="font-mono text-2xl leading-tight">{list.length}</span>
+            <span className="font-mono text-2xl leading-tight">{count}</span>
             {waitedDays !== null ? (
               <span
                 className={`text-xs ${waitedDays >= 3 ? "text-warn" : "text-muted"}`}
@@ -108,10 +115,7 @@ function StateLine({ jobs, current, now }: { jobs: JobListRow[]; current: JobSta
             ) : null}
           </span>
           <span className="block truncate font-mono text-xs text-muted">
-            {oldest
-              .slice(0, 3)
-              .map((j) => `#${j.number}`)
-              .join(" ") || "·"}
+            {numbers.map((n) => `#${n}`).join(" ") || "·"}
           </span>
         </Link>
       </li>

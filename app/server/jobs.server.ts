@@ -3,6 +3,7 @@ import {
   type Actor,
   type Billing,
   checkTransition,
+  JOB_STATES,
   type JobState,
   nextTransitions,
   type Transition,
@@ -300,43 +301,95 @@ export type JobListRow = {
   warranty: boolean;
 };
 
-export async function listJobs(shopId: string): Promise<JobListRow[]> {
-  const rows = await db
-    .select({
-      id: jobs.id,
-      number: jobs.number,
-      state: jobs.state,
-      customerName: customers.name,
-      boardMaker: boards.maker,
-      boardModel: boards.model,
-      boardNumber: boards.boardNumber,
-      serial: jobs.serial,
-      complaint: jobs.complaint,
-      assignedName: users.name,
-      createdAt: jobs.createdAt,
-      stateChangedAt: jobs.stateChangedAt,
-      warrantyOf: jobs.warrantyOfJobId,
-    })
-    .from(jobs)
-    .leftJoin(customers, and(eq(customers.id, jobs.customerId), eq(customers.shopId, shopId)))
-    .leftJoin(boards, and(eq(boards.id, jobs.boardId), eq(boards.shopId, shopId)))
-    .leftJoin(users, eq(users.id, jobs.assignedTo))
-    .where(eq(jobs.shopId, shopId))
-    .orderBy(desc(jobs.number))
-    .all();
-  return rows.map((r) => ({
-    id: r.id,
-    number: r.number,
-    state: r.state,
-    customerName: r.customerName,
-    board: r.boardMaker ? `${r.boardMaker} ${r.boardModel} (${r.boardNumber})` : null,
-    serial: r.serial,
-    complaint: r.complaint,
-    assignedName: r.assignedName,
-    createdAt: r.createdAt.getTime(),
-    stateChangedAt: r.stateChangedAt?.getTime() ?? null,
-    warranty: !!r.warrantyOf,
-  }));
+/** Closed jobs pile up for years: the list shows this many of the most recent, newest first. */
+export const CLOSED_JOBS_SHOWN = 200;
+
+export type JobStation = { count: number; numbers: number[]; oldestAt: number | null };
+
+/**
+ * The jobs page: the jobs of one state (or every job not closed), and per state its count and the three jobs
+ * that have waited longest in it (for "closed", the three closed most recently). Filtered in SQL, so the
+ * years of closed jobs are never all read to show the handful on the bench.
+ */
+export async function listJobs(
+  shopId: string,
+  state: JobState | "" = "",
+): Promise<{ rows: JobListRow[]; stations: Record<JobState, JobStation> }> {
+  const [rows, counts, waiting, lastClosed] = await Promise.all([
+    db
+      .select({
+        id: jobs.id,
+        number: jobs.number,
+        state: jobs.state,
+        customerName: customers.name,
+        boardMaker: boards.maker,
+        boardModel: boards.model,
+        boardNumber: boards.boardNumber,
+        serial: jobs.serial,
+        complaint: jobs.complaint,
+        assignedName: users.name,
+        createdAt: jobs.createdAt,
+        stateChangedAt: jobs.stateChangedAt,
+        warrantyOf: jobs.warrantyOfJobId,
+      })
+      .from(jobs)
+      .leftJoin(customers, and(eq(customers.id, jobs.customerId), eq(customers.shopId, shopId)))
+      .leftJoin(boards, and(eq(boards.id, jobs.boardId), eq(boards.shopId, shopId)))
+      .leftJoin(users, eq(users.id, jobs.assignedTo))
+      .where(and(eq(jobs.shopId, shopId), state ? eq(jobs.state, state) : ne(jobs.state, "closed")))
+      .orderBy(desc(jobs.number))
+      .limit(state === "closed" ? CLOSED_JOBS_SHOWN : -1)
+      .all(),
+    db
+      .select({ state: jobs.state, n: sql<number>`count(*)` })
+      .from(jobs)
+      .where(eq(jobs.shopId, shopId))
+      .groupBy(jobs.state)
+      .all(),
+    db
+      .select({
+        state: jobs.state,
+        number: jobs.number,
+        at: sql<number>`coalesce(${jobs.stateChangedAt}, ${jobs.createdAt})`,
+      })
+      .from(jobs)
+      .where(and(eq(jobs.shopId, shopId), ne(jobs.state, "closed")))
+      .orderBy(sql`3`, asc(jobs.number))
+      .all(),
+    db
+      .select({ number: jobs.number })
+      .from(jobs)
+      .where(and(eq(jobs.shopId, shopId), eq(jobs.state, "closed")))
+      .orderBy(desc(jobs.number))
+      .limit(3)
+      .all(),
+  ]);
+  const stations = Object.fromEntries(
+    JOB_STATES.map((s) => [s, { count: 0, numbers: [], oldestAt: null }]),
+  ) as unknown as Record<JobState, JobStation>;
+  for (const c of counts) stations[c.state].count = Number(c.n);
+  for (const w of waiting) {
+    const st = stations[w.state];
+    if (st.oldestAt === null) st.oldestAt = Number(w.at);
+    if (st.numbers.length < 3) st.numbers.push(w.number);
+  }
+  stations.closed.numbers = lastClosed.map((j) => j.number);
+  return {
+    rows: rows.map((r) => ({
+      id: r.id,
+      number: r.number,
+      state: r.state,
+      customerName: r.customerName,
+      board: r.boardMaker ? `${r.boardMaker} ${r.boardModel} (${r.boardNumber})` : null,
+      serial: r.serial,
+      complaint: r.complaint,
+      assignedName: r.assignedName,
+      createdAt: r.createdAt.getTime(),
+      stateChangedAt: r.stateChangedAt?.getTime() ?? null,
+      warranty: !!r.warrantyOf,
+    })),
+    stations,
+  };
 }
 
 export function listEvents(shopId: string, jobId: string) {

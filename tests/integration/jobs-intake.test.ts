@@ -4,6 +4,7 @@ import * as jobRoute from "~/routes/job";
 import * as jobNew from "~/routes/job-new";
 import * as jobQuote from "~/routes/job-quote";
 import * as jobsRoute from "~/routes/jobs";
+import { CLOSED_JOBS_SHOWN } from "~/server/jobs.server";
 import * as quotePublic from "~/routes/quote-public";
 import * as customerRoute from "~/routes/customer";
 import * as customerExport from "~/routes/customer-export";
@@ -205,7 +206,61 @@ describe("transitions through the route", () => {
     expect((await move(a, theirs.id, "diagnosing", "owner")).status).toBe(404);
     expect((await db.select().from(jobs).where(eq(jobs.id, theirs.id)).get())!.state).toBe("received");
     const list = await call(jobsRoute.loader, { request: getRequest("/jobs", a.cookies.desk) });
-    expect((list.data as { jobs: Array<{ id: string }> }).jobs.map((j) => j.id)).not.toContain(theirs.id);
+    expect((list.data as { rows: Array<{ id: string }> }).rows.map((j) => j.id)).not.toContain(theirs.id);
+  });
+});
+
+describe("job list", () => {
+  type ListData = {
+    rows: Array<{ id: string; number: number; state: string }>;
+    stations: Record<string, { count: number; numbers: number[]; oldestAt: number | null }>;
+    state: string;
+  };
+  const list = async (shop: Shop, query = "") =>
+    (await call(jobsRoute.loader, { request: getRequest(`/jobs${query}`, shop.cookies.desk) }))
+      .data as ListData;
+
+  it("filters by state in SQL, counts every state, and lists only the most recent closed jobs", async () => {
+    const shop = await createShopWithRoles();
+    const waiting = await newJob(shop);
+    const later = await newJob(shop);
+    const waitingSince = Date.now() - 5 * 86_400_000;
+    await db.update(jobs).set({ stateChangedAt: new Date(waitingSince) }).where(eq(jobs.id, waiting.id));
+    // Years of closed jobs, written directly (the intake path is tested above).
+    const base = later.number;
+    const closedRows = Array.from({ length: CLOSED_JOBS_SHOWN + 5 }, (_, i) => ({
+      id: `closed-${shop.shopId}-${i}`,
+      shopId: shop.shopId,
+      number: base + 1 + i,
+      state: "closed" as const,
+      stateChangedAt: new Date(Date.UTC(2025, 0, 1) + i * 86_400_000),
+    }));
+    for (let i = 0; i < closedRows.length; i += 50) await db.insert(jobs).values(closedRows.slice(i, i + 50));
+
+    const open = await list(shop);
+    // Open jobs only, newest first; the station counts cover every state.
+    expect(open.state).toBe("");
+    expect(open.rows.map((r) => r.id)).toEqual([later.id, waiting.id]);
+    // The job that has waited longest comes first, and the station's age is its wait.
+    expect(open.stations.received).toEqual({
+      count: 2,
+      numbers: [waiting.number, later.number],
+      oldestAt: waitingSince,
+    });
+    expect(open.stations.closed.count).toBe(CLOSED_JOBS_SHOWN + 5);
+    // For the line's exit: the three closed last (highest numbers here).
+    expect(open.stations.closed.numbers).toEqual([base + 205, base + 204, base + 203]);
+    expect(open.stations.diagnosing).toEqual({ count: 0, numbers: [], oldestAt: null });
+
+    const closed = await list(shop, "?state=closed");
+    expect(closed.state).toBe("closed");
+    expect(closed.rows).toHaveLength(CLOSED_JOBS_SHOWN);
+    expect(closed.rows[0].number).toBe(base + CLOSED_JOBS_SHOWN + 5);
+    expect(closed.rows.every((r) => r.state === "closed")).toBe(true);
+
+    expect((await list(shop, "?state=received")).rows.map((r) => r.id)).toEqual([later.id, waiting.id]);
+    // An unknown state is the default view, not an error.
+    expect((await list(shop, "?state=nonsense")).rows.map((r) => r.id)).toEqual([later.id, waiting.id]);
   });
 });
 
