@@ -32,6 +32,10 @@ const RATE = Number(process.env.BENCH_RATE ?? 150);
 if (!Number.isInteger(RATE / 50) || RATE <= 0)
   throw new Error(`BENCH_RATE must be a positive multiple of 50 (one request/s per connection); got ${RATE}`);
 const SOAK_S = Number(process.env.BENCH_SOAK_S ?? 300);
+// A walker run of the demo map takes a handful of readings to a few dozen: each connection starts on a fresh
+// run after this many, as a tech moves on to the next board (one run would otherwise grow to hundreds of
+// readings over the soak, which no bench session does).
+const RUN_READINGS = 25;
 const DB_FILE = `./data/h8-bench-load-${PORT}.db`;
 const BOARD = "demo-board-om5150";
 const PASSWORD = "bench-demo-2026";
@@ -176,7 +180,16 @@ async function post(path: string, cookie: string, fields: Record<string, string>
   });
 }
 
-type Conn = { runId: string; mapId: string; seq: number; revision: number; saves: number; t0: number };
+type Conn = {
+  runId: string;
+  /** Runs started for this connection and not yet used: it moves on to the next after RUN_READINGS readings. */
+  spare: string[];
+  mapId: string;
+  seq: number;
+  revision: number;
+  saves: number;
+  t0: number;
+};
 
 const benchDb = () => createClient({ url: `file:${DB_FILE}` });
 
@@ -235,10 +248,10 @@ async function probeCpu(
     await resync(c, "reading");
     await resync(c, "save");
   }
-  // BENCH_PROBE_ONLY=<text>: only the kinds whose label contains it (to profile one kind at a time).
-  const only = process.env.BENCH_PROBE_ONLY ?? "";
+  // BENCH_PROBE_ONLY=<text>[,<text>…]: only the kinds whose label contains one of them (to profile one kind).
+  const only = (process.env.BENCH_PROBE_ONLY ?? "").split(",");
   const measure = async (label: string, send: (i: number) => Promise<Response>) => {
-    if (!label.includes(only)) return;
+    if (!only.some((o) => label.includes(o))) return;
     await send(0); // warm
     const cpu0 = cpuMs(pid);
     const t0 = performance.now();
@@ -253,6 +266,8 @@ async function probeCpu(
     log(`probe ${label.padEnd(40)} cpu ${cpu.toFixed(1)} ms/request  wall ${wall.toFixed(1)} ms  non-2xx ${bad}`);
   };
   const get = (path: string, cookie: string) => () => fetch(`${ORIGIN}${path}`, { headers: { Cookie: cookie } });
+  // The floor: the server's cost of a request that does almost no work (one `select 1`, no session, no page).
+  await measure("floor /healthz", get("/healthz", ""));
   await measure("reading", async (i) => {
     const c = conns[i % conns.length];
     const [netId, text] = READINGS[(c.seq - 1) % READINGS.length];
@@ -306,8 +321,7 @@ async function main() {
     const versionId = /name="mapVersionId"[^>]*><option value="([^"]+)"/.exec(form)?.[1];
     if (!versionId) throw new Error("no published OM-5150 map version in the demo data");
 
-    const conns: Conn[] = [];
-    for (let i = 0; i < CONNECTIONS; i++) {
+    const startRun = async () => {
       const run = await post(`/runs/new?boardId=${BOARD}`, tech, {
         boardId: BOARD,
         mapVersionId: versionId,
@@ -315,10 +329,21 @@ async function main() {
         pressButton: "on",
       });
       const runId = /\/runs\/([A-Za-z0-9_-]+)$/.exec(run.headers.get("Location") ?? "")?.[1];
+      if (!runId) throw new Error(`setup failed: starting a run answered ${run.status}`);
+      return runId;
+    };
+    // Enough runs for every connection's readings over warm-up and soak (with one to spare).
+    const perConn = Math.ceil(((SOAK_S + 5) * (RATE / CONNECTIONS) * 0.7) / RUN_READINGS) + 1;
+    log(`starting ${CONNECTIONS * perConn} runs (${perConn} per connection, ${RUN_READINGS} readings each) …`);
+    const conns: Conn[] = [];
+    for (let i = 0; i < CONNECTIONS; i++) {
       const map = await post(`/boards/${BOARD}`, lead, { intent: "create-map", name: `Load bench map ${i}` });
       const mapId = /\/maps\/([A-Za-z0-9_-]+)$/.exec(map.headers.get("Location") ?? "")?.[1];
-      if (!runId || !mapId) throw new Error(`setup failed: run ${run.status}, map ${map.status}`);
-      conns.push({ runId, mapId, seq: 1, revision: 0, saves: 0, t0: 0 });
+      if (!mapId) throw new Error(`setup failed: map ${map.status}`);
+      const spare: string[] = [];
+      for (let k = 0; k < perConn; k += 4)
+        spare.push(...(await Promise.all(Array.from({ length: Math.min(4, perConn - k) }, startRun))));
+      conns.push({ runId: spare.shift()!, spare, mapId, seq: 1, revision: 0, saves: 0, t0: 0 });
     }
 
     const latencies: Record<Kind, number[]> = { reading: [], save: [], page: [], insights: [] };
@@ -355,7 +380,14 @@ async function main() {
           }
           const ok = status >= 200 && status < 300;
           if (!ok && measuring) errors++;
-          if (kind === "reading") ok ? c.seq++ : void resync(c, kind);
+          if (kind === "reading") {
+            if (!ok) void resync(c, kind);
+            else if (++c.seq > RUN_READINGS && c.spare.length) {
+              // The run is long enough: the tech moves on to the next board.
+              c.runId = c.spare.shift()!;
+              c.seq = 1;
+            }
+          }
           if (kind === "save") ok ? c.revision++ : void resync(c, kind);
         };
         if (kind === "reading")
@@ -365,6 +397,7 @@ async function main() {
             headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: ORIGIN, Cookie: tech },
             setupRequest: (req: autocannon.Request) => {
               c.t0 = performance.now();
+              req.path = `/runs/${c.runId}.data`;
               const [netId, text] = READINGS[(c.seq - 1) % READINGS.length];
               req.body = new URLSearchParams({
                 intent: "reading",
@@ -391,10 +424,11 @@ async function main() {
             },
             onResponse: done1,
           };
+        const walkerPage = kind === "page" && j % 4 === 3;
         const path =
           kind === "insights"
             ? INSIGHTS_PAGES[offset % INSIGHTS_PAGES.length]
-            : j % 4 === 3
+            : walkerPage
               ? `/runs/${c.runId}`
               : PAGES[(j + offset) % PAGES.length];
         return {
@@ -403,6 +437,7 @@ async function main() {
           headers: { Cookie: kind === "insights" ? analyst : tech },
           setupRequest: (req: autocannon.Request) => {
             c.t0 = performance.now();
+            if (walkerPage) req.path = `/runs/${c.runId}`;
             return req;
           },
           onResponse: done1,

@@ -1,6 +1,6 @@
 import { parseInsightsFilter } from "~/lib/insights-filters";
 import { requireApiMember } from "~/server/api-tokens.server";
-import { db } from "~/server/db.server";
+import { reportsDb } from "~/server/read-thread.server";
 import { INSIGHT_TABLES, isInsightTable } from "~/server/insights-tables.server";
 import type { Route } from "./+types/api-v1-insights";
 import { withResourceHeaders } from "~/server/security-headers.server";
@@ -20,7 +20,7 @@ export const loader = withResourceHeaders(async function loader({ request, param
   const { filter, errors } = parseInsightsFilter(new URL(request.url).searchParams);
   if (Object.keys(errors).length)
     return Response.json({ error: "Invalid filters.", fields: errors }, { status: 400, headers });
-  const table = await INSIGHT_TABLES[params.table](db, shop.id, filter);
+  const table = await INSIGHT_TABLES[params.table](reportsDb(), shop.id, filter);
   return Response.json(
     {
       table: params.table,

@@ -1,6 +1,6 @@
 import { parseInsightsFilter } from "~/lib/insights-filters";
 import { requireMember } from "~/server/auth.server";
-import { db } from "~/server/db.server";
+import { reportsDb } from "~/server/read-thread.server";
 import { INSIGHT_TABLES, isInsightTable, toCsv } from "~/server/insights-tables.server";
 import type { Route } from "./+types/insights-export";
 import { withResourceHeaders } from "~/server/security-headers.server";
@@ -15,7 +15,7 @@ export const loader = withResourceHeaders(async function loader({ request, param
   const { filter, errors } = parseInsightsFilter(new URL(request.url).searchParams);
   if (Object.keys(errors).length)
     throw new Response(`Fix the filters first: ${Object.values(errors).join(" ")}`, { status: 400 });
-  const table = await INSIGHT_TABLES[name](db, shop.id, filter);
+  const table = await INSIGHT_TABLES[name](reportsDb(), shop.id, filter);
   const fileName = `railwise-${name}-${filter.from}-to-${filter.to}.csv`;
   return new Response(toCsv(table), {
     headers: {

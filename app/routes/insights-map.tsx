@@ -10,6 +10,7 @@ import { filterQuery, parseInsightsFilter } from "~/lib/insights-filters";
 import { layoutDocument } from "~/lib/map-layout";
 import { notFound, requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
+import { reportsDb } from "~/server/read-thread.server";
 import { getFilterChoices, getHotSpots } from "~/server/insights.server";
 import { indexMissingVersionNodes } from "~/server/map-version-nodes.server";
 import { boards, maps, mapVersions } from "~/server/schema.server";
@@ -45,7 +46,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   };
   const [choices, hotSpots] = await Promise.all([
     getFilterChoices(db, shop.id),
-    getHotSpots(db, shop.id, boardFilter),
+    getHotSpots(reportsDb(), shop.id, boardFilter),
   ]);
   const byNode = new Map(hotSpots.map((h) => [h.nodeId, h]));
   const needsLayout = doc.value.nodes.some((n) => !n.position);

@@ -5,6 +5,7 @@ import { PageHeader } from "~/components/page-header";
 import { checkVersionFilter, filterQuery, parseInsightsFilter } from "~/lib/insights-filters";
 import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
+import { reportsDb } from "~/server/read-thread.server";
 import { getFilterChoices, getPartsUsage, type PartsUsage } from "~/server/insights.server";
 import type { Route } from "./+types/insights-parts";
 
@@ -15,7 +16,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const { filter, errors } = parsed.filter.versionId
     ? checkVersionFilter(parsed, (await choicesLoading).versions)
     : parsed;
-  const [choices, usage] = await Promise.all([choicesLoading, getPartsUsage(db, shop.id, filter)]);
+  const [choices, usage] = await Promise.all([choicesLoading, getPartsUsage(reportsDb(), shop.id, filter)]);
   return { filter, errors, choices, usage, query: filterQuery(filter) };
 }
 

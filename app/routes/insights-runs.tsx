@@ -10,6 +10,7 @@ import {
 } from "~/lib/insights-filters";
 import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
+import { reportsDb } from "~/server/read-thread.server";
 import {
   type EscalationSpot,
   type FixKindStats,
@@ -30,12 +31,13 @@ export async function loader({ request }: Route.LoaderArgs) {
   const { filter, errors } = parsed.filter.versionId
     ? checkVersionFilter(parsed, (await choicesLoading).versions)
     : parsed;
+  const reports = reportsDb();
   const [choices, strategies, escalations, firstTimeFix, repeats] = await Promise.all([
     choicesLoading,
-    getStrategyStats(db, shop.id, filter),
-    getEscalations(db, shop.id, filter),
-    getFirstTimeFix(db, shop.id, filter),
-    getRepeatFailures(db, shop.id, filter),
+    getStrategyStats(reports, shop.id, filter),
+    getEscalations(reports, shop.id, filter),
+    getFirstTimeFix(reports, shop.id, filter),
+    getRepeatFailures(reports, shop.id, filter),
   ]);
   return {
     filter,

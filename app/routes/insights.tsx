@@ -7,6 +7,7 @@ import { EmptyState, PageHeader } from "~/components/page-header";
 import { checkVersionFilter, filterQuery, parseInsightsFilter } from "~/lib/insights-filters";
 import { requireMember } from "~/server/auth.server";
 import { db } from "~/server/db.server";
+import { reportsDb } from "~/server/read-thread.server";
 import { getFilterChoices, getHotSpots, type HotSpot } from "~/server/insights.server";
 import { indexMissingVersionNodes } from "~/server/map-version-nodes.server";
 import type { Route } from "./+types/insights";
@@ -22,7 +23,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const { filter, errors } = parsed.filter.versionId
     ? checkVersionFilter(parsed, (await choicesLoading).versions)
     : parsed;
-  const [choices, hotSpots] = await Promise.all([choicesLoading, getHotSpots(db, shop.id, filter)]);
+  const [choices, hotSpots] = await Promise.all([choicesLoading, getHotSpots(reportsDb(), shop.id, filter)]);
   return { filter, errors, choices, hotSpots, query: filterQuery(filter) };
 }
 

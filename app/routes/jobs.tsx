@@ -65,11 +65,7 @@ export default function JobsRoute({ loaderData }: Route.ComponentProps) {
       ) : (
         <>
           <StateLine stations={stations} current={stateFilter} now={now} />
-          <JobTable
-            rows={rows}
-            caption={caption}
-            onClear={stateFilter ? () => setParams({}) : undefined}
-          />
+          <JobTable rows={rows} caption={caption} onClear={stateFilter ? () => setParams({}) : undefined} />
         </>
       )}
     </>
@@ -93,8 +89,7 @@ function StateLine({
     const { count, numbers, oldestAt } = stations[s];
     const active = current === s;
     // How long the oldest job has sat in this state: where work is piling up (not shown for closed).
-    const waitedDays =
-      oldestAt !== null && s !== "closed" ? Math.floor((now - oldestAt) / 86_400_000) : null;
+    const waitedDays = oldestAt !== null && s !== "closed" ? Math.floor((now - oldestAt) / 86_400_000) : null;
     return (
       <li key={s} className="min-w-0 flex-1">
         <Link

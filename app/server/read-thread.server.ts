@@ -1,0 +1,146 @@
+// Long read-only reports (insights over a year of runs) on their own thread and their own SQLite connection.
+//
+// A local database file is read through libsql's synchronous native calls, so a 100 ms insights query holds
+// the worker's event loop for 100 ms, and every walker reading that arrives meanwhile waits behind it. Here
+// those queries go to a worker thread with its own read connection (WAL: readers see every committed write and
+// never block the writer), so the event loop keeps answering readings while a report is computed.
+//
+// The thread speaks @libsql/client's `execute` over postMessage; on this side a small client answers with the
+// same row objects libsql builds, so drizzle (and every query written for the main connection) runs unchanged.
+// A remote database (libSQL server over HTTP) already answers asynchronously: there the main client is used.
+import { createRequire } from "node:module";
+import { Worker } from "node:worker_threads";
+import type { Client, InStatement, ResultSet, Row } from "@libsql/client";
+import { drizzle } from "drizzle-orm/libsql";
+import { type Db, db as mainDb } from "./db.server";
+import { env } from "./env.server";
+import * as schema from "./schema.server";
+
+// Plain CommonJS run by the thread (an eval worker), so the server bundle needs no second entry point.
+// `query_only` makes the connection refuse any write: this thread only ever reads.
+const THREAD_SOURCE = `
+const { parentPort, workerData } = require("node:worker_threads");
+const { createClient } = require(workerData.clientPath);
+const client = createClient({ url: workerData.url });
+const ready = (async () => {
+  for (const p of ["PRAGMA query_only=ON", "PRAGMA cache_size=-65536", "PRAGMA mmap_size=268435456"])
+    await client.execute(p);
+})();
+parentPort.on("message", async ({ id, stmt }) => {
+  try {
+    await ready;
+    const rs = await client.execute(stmt);
+    parentPort.postMessage({ id, columns: rs.columns, rows: rs.rows.map((r) => Array.from(r)) });
+  } catch (e) {
+    parentPort.postMessage({ id, error: { message: String(e && e.message), code: e && e.code } });
+  }
+});
+`;
+
+type Answer =
+  | { id: number; columns: string[]; rows: unknown[][] }
+  | { id: number; error: { message: string; code?: string } };
+
+/** The row shape @libsql/client returns: values by index (not enumerable) and by column name. */
+function rowOf(values: unknown[], columns: string[]): Row {
+  const row: Record<string | number, unknown> = {};
+  Object.defineProperty(row, "length", { value: values.length });
+  for (let i = 0; i < values.length; i++) {
+    Object.defineProperty(row, i, { value: values[i] });
+    const column = columns[i];
+    if (!Object.hasOwn(row, column))
+      Object.defineProperty(row, column, {
+        value: values[i],
+        enumerable: true,
+        configurable: true,
+        writable: true,
+      });
+  }
+  return row as unknown as Row;
+}
+
+class ThreadClient {
+  private worker: Worker | null = null;
+  private nextId = 1;
+  private pending = new Map<number, { resolve: (r: ResultSet) => void; reject: (e: Error) => void }>();
+  readonly protocol = "file";
+  closed = false;
+
+  constructor(private readonly url: string) {}
+
+  private start() {
+    const worker = new Worker(THREAD_SOURCE, {
+      eval: true,
+      workerData: { url: this.url, clientPath: createRequire(import.meta.url).resolve("@libsql/client") },
+    });
+    // The thread must never keep the process alive on its own (shutdown, tests).
+    worker.unref();
+    worker.on("message", (a: Answer) => {
+      const p = this.pending.get(a.id);
+      if (!p) return;
+      this.pending.delete(a.id);
+      if ("error" in a) p.reject(Object.assign(new Error(a.error.message), { code: a.error.code }));
+      else
+        p.resolve({
+          columns: a.columns,
+          columnTypes: [],
+          rows: a.rows.map((values) => rowOf(values, a.columns)),
+          rowsAffected: 0,
+          lastInsertRowid: undefined,
+          toJSON: () => ({ columns: a.columns, rows: a.rows }),
+        });
+      if (!this.pending.size) worker.unref();
+    });
+    // A thread that dies fails what it was asked, and the next query starts a new one.
+    const fail = (e: Error) => {
+      if (this.worker === worker) this.worker = null;
+      for (const p of this.pending.values()) p.reject(e);
+      this.pending.clear();
+    };
+    worker.on("error", fail);
+    worker.on("exit", (code) => fail(new Error(`the read thread stopped (exit code ${code})`)));
+    return worker;
+  }
+
+  execute(stmt: InStatement): Promise<ResultSet> {
+    if (this.closed) return Promise.reject(new Error("the read thread is closed"));
+    this.worker ??= this.start();
+    const worker = this.worker;
+    const id = this.nextId++;
+    return new Promise<ResultSet>((resolve, reject) => {
+      this.pending.set(id, { resolve, reject });
+      // Waiting for an answer keeps the process alive; an idle thread does not.
+      worker.ref();
+      worker.postMessage({ id, stmt: typeof stmt === "string" ? { sql: stmt, args: [] } : stmt });
+    });
+  }
+
+  batch(): Promise<ResultSet[]> {
+    return Promise.reject(new Error("the read thread only reads: batches go to the main connection"));
+  }
+
+  transaction(): never {
+    throw new Error("the read thread only reads: transactions go to the main connection");
+  }
+
+  close() {
+    this.closed = true;
+    void this.worker?.terminate();
+    this.worker = null;
+  }
+}
+
+let readDb: Db | null = null;
+
+/**
+ * The database handle for long read-only reports: a thread of its own for a local file, the main handle for a
+ * remote server (READ_THREAD=off also keeps everything on the main connection).
+ */
+export function reportsDb(): Db {
+  const url = env.DATABASE_URL;
+  // (An in-memory database exists only on its own connection: a second one would be another, empty one.)
+  if (!url.startsWith("file:") || url.includes(":memory:") || process.env.READ_THREAD === "off")
+    return mainDb;
+  readDb ??= drizzle(new ThreadClient(url) as unknown as Client, { schema });
+  return readDb;
+}

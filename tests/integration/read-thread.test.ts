@@ -1,0 +1,51 @@
+import { eq, sql } from "drizzle-orm";
+import { describe, expect, it } from "vitest";
+import { db } from "~/server/db.server";
+import { reportsDb } from "~/server/read-thread.server";
+import { shops } from "~/server/schema.server";
+import { createShopWithRoles } from "../support/fixtures";
+
+// Insights run on their own thread and read connection when the database is a local file (a remote libSQL
+// server answers asynchronously already, so there the main connection serves them).
+const local = !process.env.DATABASE_URL?.startsWith("http");
+
+describe.runIf(local)("the read thread of a local database file", () => {
+  it("is its own connection, and sees every write the main connection committed, at once", async () => {
+    const reports = reportsDb();
+    expect(reports).not.toBe(db);
+    const shop = await createShopWithRoles("Read thread shop");
+    const name = `Renamed ${Date.now()}`;
+    await db.update(shops).set({ name }).where(eq(shops.id, shop.shopId));
+    const seen = await reports.select({ name: shops.name }).from(shops).where(eq(shops.id, shop.shopId)).get();
+    expect(seen?.name).toBe(name);
+    // Raw statements come back as objects by column name, as on the main connection.
+    const [row] = await reports.all<{ n: number; label: string }>(sql`SELECT 41 + 1 AS n, 'x' AS label`);
+    expect(row).toEqual({ n: 42, label: "x" });
+  });
+
+  it("only reads: a write is refused and changes nothing", async () => {
+    const shop = await createShopWithRoles("Read-only shop");
+    const refused = await reportsDb()
+      .run(sql`UPDATE shops SET name = 'changed' WHERE id = ${shop.shopId}`)
+      .catch((e: Error) => e);
+    // (drizzle wraps the driver's error, on either connection, with the failed statement; SQLite's is the cause.)
+    expect(String((refused as Error).cause)).toMatch(/readonly|read-only|query_only/i);
+    const after = await db.select({ name: shops.name }).from(shops).where(eq(shops.id, shop.shopId)).get();
+    expect(after?.name).toBe("Read-only shop");
+  });
+
+  it("answers a failing query with SQLite's message, and keeps serving", async () => {
+    const failed = await reportsDb()
+      .all(sql`SELECT * FROM no_such_table`)
+      .catch((e: Error) => e);
+    expect(String((failed as Error).cause)).toMatch(/no such table/);
+    const [row] = await reportsDb().all<{ one: number }>(sql`SELECT 1 AS one`);
+    expect(row.one).toBe(1);
+  });
+});
+
+describe.runIf(!local)("a remote libSQL server", () => {
+  it("serves reports on the main connection", () => {
+    expect(reportsDb()).toBe(db);
+  });
+});
