@@ -226,7 +226,11 @@ const cpuMs = (pid: number): number => {
   const own = (Number(fields[11]) + Number(fields[12])) * 10;
   let children: number[] = [];
   try {
-    children = readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8").trim().split(/\s+/).filter(Boolean).map(Number);
+    children = readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8")
+      .trim()
+      .split(/\s+/)
+      .filter(Boolean)
+      .map(Number);
   } catch {
     children = [];
   }
@@ -263,9 +267,12 @@ async function probeCpu(
     }
     const cpu = (cpuMs(pid) - cpu0) / N;
     const wall = (performance.now() - t0) / N;
-    log(`probe ${label.padEnd(40)} cpu ${cpu.toFixed(1)} ms/request  wall ${wall.toFixed(1)} ms  non-2xx ${bad}`);
+    log(
+      `probe ${label.padEnd(40)} cpu ${cpu.toFixed(1)} ms/request  wall ${wall.toFixed(1)} ms  non-2xx ${bad}`,
+    );
   };
-  const get = (path: string, cookie: string) => () => fetch(`${ORIGIN}${path}`, { headers: { Cookie: cookie } });
+  const get = (path: string, cookie: string) => () =>
+    fetch(`${ORIGIN}${path}`, { headers: { Cookie: cookie } });
   // The floor: the server's cost of a request that does almost no work (one `select 1`, no session, no page).
   await measure("floor /healthz", get("/healthz", ""));
   await measure("reading", async (i) => {
@@ -295,7 +302,8 @@ async function probeCpu(
     else await resync(c, "save");
     return res;
   });
-  for (const path of [...PAGES, `/runs/${conns[0].runId}`]) await measure(`page ${path}`, get(path, cookies.tech));
+  for (const path of [...PAGES, `/runs/${conns[0].runId}`])
+    await measure(`page ${path}`, get(path, cookies.tech));
   for (const path of INSIGHTS_PAGES) await measure(`insights ${path}`, get(path, cookies.analyst));
 }
 
@@ -334,7 +342,9 @@ async function main() {
     };
     // Enough runs for every connection's readings over warm-up and soak (with one to spare).
     const perConn = Math.ceil(((SOAK_S + 5) * (RATE / CONNECTIONS) * 0.7) / RUN_READINGS) + 1;
-    log(`starting ${CONNECTIONS * perConn} runs (${perConn} per connection, ${RUN_READINGS} readings each) …`);
+    log(
+      `starting ${CONNECTIONS * perConn} runs (${perConn} per connection, ${RUN_READINGS} readings each) …`,
+    );
     const conns: Conn[] = [];
     for (let i = 0; i < CONNECTIONS; i++) {
       const map = await post(`/boards/${BOARD}`, lead, { intent: "create-map", name: `Load bench map ${i}` });
@@ -484,7 +494,14 @@ async function main() {
     measuring = true;
     done = 0;
     const started = performance.now();
-    const results = await phase(SOAK_S, RATE);
+    // Memory over the soak, every 30 s: a bounded cache levels off, a leak keeps climbing.
+    const memTrace = setInterval(() => {
+      const t = Math.round((performance.now() - started) / 1000);
+      log(
+        `  t=${t}s server RSS ${rssMb(server.pid!).toFixed(1)} MB, anonymous ${rssMb(server.pid!, "RssAnon").toFixed(1)} MB`,
+      );
+    }, 30_000);
+    const results = await phase(SOAK_S, RATE).finally(() => clearInterval(memTrace));
     const wall = (performance.now() - started) / 1000;
     measuring = false;
     const rssEnd = rssMb(server.pid!);

@@ -35,11 +35,14 @@ async function prepare(client: ReturnType<typeof createClient>, db: Db) {
     // In WAL mode `normal` syncs the log at checkpoints instead of at every commit: a commit survives the
     // process being killed, and a power cut can undo only the last moments (docs/decisions/008-…).
     await client.execute(`PRAGMA synchronous=${env.DATABASE_SYNCHRONOUS === "full" ? "FULL" : "NORMAL"}`);
-    // Insights read 10-30 MB of index per page at 100,000 runs: a 64 MB page cache and memory-mapped reads
-    // (no read() copy per page). Per connection: this reaches the pool's first connection, the one every
-    // call reuses while no transaction holds it (extra connections open only beside an open transaction).
-    await client.execute("PRAGMA cache_size=-65536");
-    await client.execute("PRAGMA mmap_size=268435456");
+    // Insights read 10-30 MB of index per page at 100,000 runs: memory-mapped reads up to 1 GiB (no read()
+    // copy per page, and the pages stay the kernel's file cache, shared and droppable, instead of growing the
+    // process's own memory) and a 16 MB page cache for the rest (pages of the write-ahead log, pages being
+    // written). Per connection: this reaches the pool's first connection, the one every call reuses while no
+    // transaction holds it (extra connections open only beside an open transaction); the insights read thread
+    // sets the same on its own connection (read-thread.server.ts).
+    await client.execute("PRAGMA cache_size=-16384");
+    await client.execute("PRAGMA mmap_size=1073741824");
   }
   await migrate(db, { migrationsFolder: migrationsFolder() });
   await installRollupTriggers(client);

@@ -23,7 +23,7 @@ const { parentPort, workerData } = require("node:worker_threads");
 const { createClient } = require(workerData.clientPath);
 const client = createClient({ url: workerData.url });
 const ready = (async () => {
-  for (const p of ["PRAGMA query_only=ON", "PRAGMA cache_size=-65536", "PRAGMA mmap_size=268435456"])
+  for (const p of ["PRAGMA query_only=ON", "PRAGMA cache_size=-16384", "PRAGMA mmap_size=1073741824"])
     await client.execute(p);
 })();
 parentPort.on("message", async ({ id, stmt }) => {

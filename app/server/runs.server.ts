@@ -359,7 +359,10 @@ function skippedChecks(rows: ReadingRow[], round: number): Array<{ netId: string
   return [...seen.values()].sort((a, b) => (`${a.netId}:${a.mode}` < `${b.netId}:${b.mode}` ? -1 : 1));
 }
 
-// The action and the revalidation right after it analyse the same readings: keep recent analyses by content.
+// A reading's request analyses the same readings twice (the run's new status, then the answer's view), and a
+// page load right after does again: keep recent analyses by content. Few: an analysis holds every suspect's
+// probability, and the hits come within moments (500 kept took ~50 MB per process under load).
+const ANALYSES_KEPT = 64;
 const analysisCache = new Map<string, Analysis>();
 
 async function analyseRun(shopId: string, run: RunRow, doc: MapDocument, rows: ReadingRow[]) {
@@ -392,7 +395,8 @@ async function analyseRun(shopId: string, run: RunRow, doc: MapDocument, rows: R
     });
     if (!a.ok) throw new RunError(400, a.error.message);
     analysis = a.value;
-    if (analysisCache.size >= 500) analysisCache.delete(analysisCache.keys().next().value as string);
+    if (analysisCache.size >= ANALYSES_KEPT)
+      analysisCache.delete(analysisCache.keys().next().value as string);
     analysisCache.set(key, analysis);
   }
   return { analysis, priors, learnedFrom, meter };

@@ -14,6 +14,11 @@ describe.runIf(local)("a local database file", () => {
     // The client's `timeout` option is the connection's busy timeout (STACK.md); 5000 ms unless set.
     const busy = await client.execute("PRAGMA busy_timeout");
     expect(Number(busy.rows[0]?.[0])).toBe(5000);
+    // Reads memory-mapped up to 1 GiB; a 16 MB page cache (a negative cache_size is in KiB).
+    const mmap = await client.execute("PRAGMA mmap_size");
+    expect(Number(mmap.rows[0]?.[0])).toBe(1024 ** 3);
+    const cache = await client.execute("PRAGMA cache_size");
+    expect(Number(cache.rows[0]?.[0])).toBe(-16 * 1024);
   });
 
   it("kept statements see a column added after they were first used", async () => {

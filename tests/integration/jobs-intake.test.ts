@@ -225,7 +225,10 @@ describe("job list", () => {
     const waiting = await newJob(shop);
     const later = await newJob(shop);
     const waitingSince = Date.now() - 5 * 86_400_000;
-    await db.update(jobs).set({ stateChangedAt: new Date(waitingSince) }).where(eq(jobs.id, waiting.id));
+    await db
+      .update(jobs)
+      .set({ stateChangedAt: new Date(waitingSince) })
+      .where(eq(jobs.id, waiting.id));
     // Years of closed jobs, written directly (the intake path is tested above).
     const base = later.number;
     const closedRows = Array.from({ length: CLOSED_JOBS_SHOWN + 5 }, (_, i) => ({

@@ -16,7 +16,11 @@ describe.runIf(local)("the read thread of a local database file", () => {
     const shop = await createShopWithRoles("Read thread shop");
     const name = `Renamed ${Date.now()}`;
     await db.update(shops).set({ name }).where(eq(shops.id, shop.shopId));
-    const seen = await reports.select({ name: shops.name }).from(shops).where(eq(shops.id, shop.shopId)).get();
+    const seen = await reports
+      .select({ name: shops.name })
+      .from(shops)
+      .where(eq(shops.id, shop.shopId))
+      .get();
     expect(seen?.name).toBe(name);
     // Raw statements come back as objects by column name, as on the main connection.
     const [row] = await reports.all<{ n: number; label: string }>(sql`SELECT 41 + 1 AS n, 'x' AS label`);
