@@ -10,8 +10,13 @@
 // each second, so each connection is its own autocannon instance, started 1000/50 ms after the previous one,
 // to spread the load over the second (as bench/walker.ts does). Every connection cycles through the same
 // 20-request mix (14 readings, 2 saves, 3 pages, 1 insights), rotated so the kinds interleave across connections.
+// Each connection's readings go to one walker run for 25 readings, then to a fresh run (runs started at setup).
 // Latency is measured per request from send to last byte. The figures are void when the achieved rate is below
-// 99 % of the offered one. Server RSS is read from /proc at the start and end of the soak.
+// 99 % of the offered one. After a 30-second warm-up at the same rate, server memory is read from /proc at the
+// start and end of the soak, and every 30 s between.
+//
+// BENCH_PROBE=1 replaces the soak by a diagnosis: each kind of request sent alone, one after another, with the
+// server's CPU time per request (BENCH_PROBE_N requests each, BENCH_PROBE_ONLY=<label text> to pick kinds).
 // Data: a copy of the insights bench file (bench/insights-seed.ts: 100,000 runs and 1,000,000 readings in its
 // own shop, seeded once and reused), with the demo shop seeded on top when the server starts (SEED_DEMO=1).
 // Readings, saves and pages go to the demo shop; the insights loads go to the bench shop's lead, so they
@@ -36,6 +41,9 @@ const SOAK_S = Number(process.env.BENCH_SOAK_S ?? 300);
 // run after this many, as a tech moves on to the next board (one run would otherwise grow to hundreds of
 // readings over the soak, which no bench session does).
 const RUN_READINGS = 25;
+// Seconds of the same load before the soak: the server's heaps and caches grow to their working size in the
+// first half minute of load (the 30-second memory trace shows it), which is not what the soak is to measure.
+const WARMUP_S = 30;
 const DB_FILE = `./data/h8-bench-load-${PORT}.db`;
 const BOARD = "demo-board-om5150";
 const PASSWORD = "bench-demo-2026";
@@ -341,7 +349,7 @@ async function main() {
       return runId;
     };
     // Enough runs for every connection's readings over warm-up and soak (with one to spare).
-    const perConn = Math.ceil(((SOAK_S + 5) * (RATE / CONNECTIONS) * 0.7) / RUN_READINGS) + 1;
+    const perConn = Math.ceil(((SOAK_S + WARMUP_S + 2) * (RATE / CONNECTIONS) * 0.7) / RUN_READINGS) + 1;
     log(
       `starting ${CONNECTIONS * perConn} runs (${perConn} per connection, ${RUN_READINGS} readings each) …`,
     );
@@ -474,8 +482,9 @@ async function main() {
         ),
       );
 
-    // Warm-up (not measured): JIT, caches, SQLite pages.
-    await phase(3, RATE);
+    // Warm-up (not measured): JIT, caches, SQLite pages, and the heaps grown to their working size, so the
+    // soak's start and end memory compare the same steady state (BENCH_PROBE needs only a short one).
+    await phase(process.env.BENCH_PROBE === "1" ? 3 : WARMUP_S, RATE);
     if (process.env.BENCH_PROBE === "1") {
       await probeCpu(server.pid!, conns, { tech, lead, analyst }, resync);
       return;

@@ -2,8 +2,8 @@
 //
 // A local database file is read through libsql's synchronous native calls, so a 100 ms insights query holds
 // the worker's event loop for 100 ms, and every walker reading that arrives meanwhile waits behind it. Here
-// those queries go to a worker thread with its own read connection (WAL: readers see every committed write and
-// never block the writer), so the event loop keeps answering readings while a report is computed.
+// those queries go to worker threads, each with its own read connection (WAL: readers see every committed write
+// and never block the writer), so the event loop keeps answering readings while a report is computed.
 //
 // The thread speaks @libsql/client's `execute` over postMessage; on this side a small client answers with the
 // same row objects libsql builds, so drizzle (and every query written for the main connection) runs unchanged.
@@ -59,12 +59,11 @@ function rowOf(values: unknown[], columns: string[]): Row {
   return row as unknown as Row;
 }
 
-class ThreadClient {
+/** One thread and its connection; the statements it was asked and not yet answered. */
+class ReadThread {
   private worker: Worker | null = null;
   private nextId = 1;
-  private pending = new Map<number, { resolve: (r: ResultSet) => void; reject: (e: Error) => void }>();
-  readonly protocol = "file";
-  closed = false;
+  readonly pending = new Map<number, { resolve: (r: ResultSet) => void; reject: (e: Error) => void }>();
 
   constructor(private readonly url: string) {}
 
@@ -103,7 +102,6 @@ class ThreadClient {
   }
 
   execute(stmt: InStatement): Promise<ResultSet> {
-    if (this.closed) return Promise.reject(new Error("the read thread is closed"));
     this.worker ??= this.start();
     const worker = this.worker;
     const id = this.nextId++;
@@ -113,6 +111,33 @@ class ThreadClient {
       worker.ref();
       worker.postMessage({ id, stmt: typeof stmt === "string" ? { sql: stmt, args: [] } : stmt });
     });
+  }
+
+  close() {
+    void this.worker?.terminate();
+    this.worker = null;
+  }
+}
+
+/**
+ * The part of @libsql/client's Client that drizzle's reads use, over a few read threads: an insights page asks
+ * its statistics at once, and two threads compute two of them side by side on a machine with two cores.
+ */
+class ThreadPoolClient {
+  private readonly threads: ReadThread[];
+  readonly protocol = "file";
+  closed = false;
+
+  constructor(url: string, size: number) {
+    this.threads = Array.from({ length: size }, () => new ReadThread(url));
+  }
+
+  execute(stmt: InStatement): Promise<ResultSet> {
+    if (this.closed) return Promise.reject(new Error("the read threads are closed"));
+    // The least busy thread (the first, when all are idle).
+    let pick = this.threads[0];
+    for (const t of this.threads) if (t.pending.size < pick.pending.size) pick = t;
+    return pick.execute(stmt);
   }
 
   batch(): Promise<ResultSet[]> {
@@ -125,8 +150,7 @@ class ThreadClient {
 
   close() {
     this.closed = true;
-    void this.worker?.terminate();
-    this.worker = null;
+    for (const t of this.threads) t.close();
   }
 }
 
@@ -141,6 +165,8 @@ export function reportsDb(): Db {
   // (An in-memory database exists only on its own connection: a second one would be another, empty one.)
   if (!url.startsWith("file:") || url.includes(":memory:") || process.env.READ_THREAD === "off")
     return mainDb;
-  readDb ??= drizzle(new ThreadClient(url) as unknown as Client, { schema });
+  // READ_THREADS: how many (default 2, one per core of the machine this was measured on).
+  const size = Math.max(1, Math.min(8, Number(process.env.READ_THREADS ?? 2) || 2));
+  readDb ??= drizzle(new ThreadPoolClient(url, size) as unknown as Client, { schema });
   return readDb;
 }
