@@ -10,6 +10,9 @@ import { securityHeaders, transportHeaders } from "./server/security-headers.ser
 
 export const streamTimeout = 5_000;
 
+// For server.mjs: ends the insights read threads before the process exits (decision record 010).
+export { closeReportThreads } from "~/server/read-thread.server";
+
 /** Client navigations fetch `.data` and skip handleRequest: they get nosniff and, behind https, HSTS here. */
 export function handleDataRequest(response: Response) {
   response.headers.set("X-Content-Type-Options", "nosniff");

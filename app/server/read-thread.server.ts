@@ -26,7 +26,15 @@ const ready = (async () => {
   for (const p of ["PRAGMA query_only=ON", "PRAGMA cache_size=-16384", "PRAGMA mmap_size=1073741824"])
     await client.execute(p);
 })();
-parentPort.on("message", async ({ id, stmt }) => {
+parentPort.on("message", async ({ id, stmt, close }) => {
+  if (close) {
+    // Shutting down: the statement in hand has finished (one message at a time); close the connection and let
+    // the thread end by itself. (Terminating it mid-statement can abort the process in the native driver.)
+    await ready.catch(() => {});
+    client.close();
+    parentPort.close();
+    return;
+  }
   try {
     await ready;
     const rs = await client.execute(stmt);
@@ -113,9 +121,22 @@ class ReadThread {
     });
   }
 
-  close() {
-    void this.worker?.terminate();
+  /** Ends the thread after the statement it is on, closing its connection (2 s at most, then it is stopped). */
+  close(): Promise<void> {
+    const worker = this.worker;
     this.worker = null;
+    if (!worker) return Promise.resolve();
+    return new Promise<void>((resolve) => {
+      const timer = setTimeout(() => {
+        void worker.terminate();
+        resolve();
+      }, 2000);
+      worker.once("exit", () => {
+        clearTimeout(timer);
+        resolve();
+      });
+      worker.postMessage({ close: true });
+    });
   }
 }
 
@@ -148,13 +169,21 @@ class ThreadPoolClient {
     throw new Error("the read thread only reads: transactions go to the main connection");
   }
 
-  close() {
+  async close() {
     this.closed = true;
-    for (const t of this.threads) t.close();
+    await Promise.all(this.threads.map((t) => t.close()));
   }
 }
 
 let readDb: Db | null = null;
+let pool: ThreadPoolClient | null = null;
+
+/** Ends the read threads cleanly (the server calls it on SIGTERM, before the process exits). */
+export async function closeReportThreads() {
+  await pool?.close();
+  pool = null;
+  readDb = null;
+}
 
 /**
  * The database handle for long read-only reports: a thread of its own for a local file, the main handle for a
@@ -167,6 +196,11 @@ export function reportsDb(): Db {
     return mainDb;
   // READ_THREADS: how many (default 2, one per core of the machine this was measured on).
   const size = Math.max(1, Math.min(8, Number(process.env.READ_THREADS ?? 2) || 2));
-  readDb ??= drizzle(new ThreadPoolClient(url, size) as unknown as Client, { schema });
+  if (!readDb) {
+    pool = new ThreadPoolClient(url, size);
+    readDb = drizzle(pool as unknown as Client, { schema });
+    // For whoever ends this process without importing this module (the test setup, per test file).
+    (globalThis as Record<symbol, unknown>)[Symbol.for("railwise.closeReportThreads")] = closeReportThreads;
+  }
   return readDb;
 }

@@ -21,7 +21,11 @@ if (process.env.TEST_LIBSQL === "1") {
 } else {
   const file = path.join(tmpdir(), `railwise-test-${randomUUID()}.db`);
   process.env.DATABASE_URL = `file:${file}`;
-  afterAll(() => {
+  afterAll(async () => {
+    // The insights read threads hold their own connections to the file: close them first, if a test started
+    // them (read-thread.server.ts leaves its closer here, so files that never touched it do not load it).
+    const close = (globalThis as Record<symbol, unknown>)[Symbol.for("railwise.closeReportThreads")];
+    if (typeof close === "function") await close();
     for (const suffix of ["", "-wal", "-shm"]) rmSync(`${file}${suffix}`, { force: true });
   });
 }
