@@ -306,6 +306,9 @@ export const CLOSED_JOBS_SHOWN = 200;
 
 export type JobStation = { count: number; numbers: number[]; oldestAt: number | null };
 
+/** When a closed job closed (older rows may lack closed_at: then when its state last changed, or it opened). */
+const closedOrder = sql`coalesce(${jobs.closedAt}, ${jobs.stateChangedAt}, ${jobs.createdAt})`;
+
 /**
  * The jobs page: the jobs of one state (or every job not closed), and per state its count and the three jobs
  * that have waited longest in it (for "closed", the three closed most recently). Filtered in SQL, so the
@@ -337,7 +340,8 @@ export async function listJobs(
       .leftJoin(boards, and(eq(boards.id, jobs.boardId), eq(boards.shopId, shopId)))
       .leftJoin(users, eq(users.id, jobs.assignedTo))
       .where(and(eq(jobs.shopId, shopId), state ? eq(jobs.state, state) : ne(jobs.state, "closed")))
-      .orderBy(desc(jobs.number))
+      // Closed jobs: the last closed first (a job that waited weeks for parts closes long after its number).
+      .orderBy(...(state === "closed" ? [desc(closedOrder), desc(jobs.number)] : [desc(jobs.number)]))
       .limit(state === "closed" ? CLOSED_JOBS_SHOWN : -1)
       .all(),
     db
@@ -354,13 +358,14 @@ export async function listJobs(
       })
       .from(jobs)
       .where(and(eq(jobs.shopId, shopId), ne(jobs.state, "closed")))
-      .orderBy(sql`3`, asc(jobs.number))
+      // Longest waiting first; between equal waits the later job first, as the page always showed them.
+      .orderBy(sql`3`, desc(jobs.number))
       .all(),
     db
       .select({ number: jobs.number })
       .from(jobs)
       .where(and(eq(jobs.shopId, shopId), eq(jobs.state, "closed")))
-      .orderBy(desc(jobs.number))
+      .orderBy(desc(closedOrder), desc(jobs.number))
       .limit(3)
       .all(),
   ]);

@@ -12,7 +12,7 @@ import { createRequire } from "node:module";
 import { Worker } from "node:worker_threads";
 import type { Client, InStatement, ResultSet, Row } from "@libsql/client";
 import { drizzle } from "drizzle-orm/libsql";
-import { type Db, db as mainDb } from "./db.server";
+import { type Db, client as mainClient, db as mainDb } from "./db.server";
 import { env } from "./env.server";
 import * as schema from "./schema.server";
 
@@ -21,7 +21,7 @@ import * as schema from "./schema.server";
 const THREAD_SOURCE = `
 const { parentPort, workerData } = require("node:worker_threads");
 const { createClient } = require(workerData.clientPath);
-const client = createClient({ url: workerData.url });
+const client = createClient({ url: workerData.url, timeout: workerData.timeout });
 const ready = (async () => {
   for (const p of ["PRAGMA query_only=ON", "PRAGMA cache_size=-16384", "PRAGMA mmap_size=1073741824"])
     await client.execute(p);
@@ -78,7 +78,12 @@ class ReadThread {
   private start() {
     const worker = new Worker(THREAD_SOURCE, {
       eval: true,
-      workerData: { url: this.url, clientPath: createRequire(import.meta.url).resolve("@libsql/client") },
+      workerData: {
+        url: this.url,
+        // The same busy timeout as the main connection (a WAL reader waits on recovery and some checkpoints).
+        timeout: env.DATABASE_TIMEOUT_MS,
+        clientPath: createRequire(import.meta.url).resolve("@libsql/client"),
+      },
     });
     // The thread must never keep the process alive on its own (shutdown, tests).
     worker.unref();
@@ -117,7 +122,14 @@ class ReadThread {
       this.pending.set(id, { resolve, reject });
       // Waiting for an answer keeps the process alive; an idle thread does not.
       worker.ref();
-      worker.postMessage({ id, stmt: typeof stmt === "string" ? { sql: stmt, args: [] } : stmt });
+      try {
+        worker.postMessage({ id, stmt: typeof stmt === "string" ? { sql: stmt, args: [] } : stmt });
+      } catch (e) {
+        // An argument that cannot be copied to the thread: nothing was sent, nothing is awaited.
+        this.pending.delete(id);
+        if (!this.pending.size) worker.unref();
+        reject(e);
+      }
     });
   }
 
@@ -154,7 +166,8 @@ class ThreadPoolClient {
   }
 
   execute(stmt: InStatement): Promise<ResultSet> {
-    if (this.closed) return Promise.reject(new Error("the read threads are closed"));
+    // Shutting down: a report already under way finishes on the main connection.
+    if (this.closed) return mainClient.execute(stmt);
     // The least busy thread (the first, when all are idle).
     let pick = this.threads[0];
     for (const t of this.threads) if (t.pending.size < pick.pending.size) pick = t;
@@ -178,11 +191,15 @@ class ThreadPoolClient {
 let readDb: Db | null = null;
 let pool: ThreadPoolClient | null = null;
 
-/** Ends the read threads cleanly (the server calls it on SIGTERM, before the process exits). */
+let shutDown = false;
+
+/**
+ * Ends the read threads cleanly (the server calls it on SIGTERM, before the process exits). Reports asked
+ * after that use the main connection: a new thread would only be cut off by the exit.
+ */
 export async function closeReportThreads() {
+  shutDown = true;
   await pool?.close();
-  pool = null;
-  readDb = null;
 }
 
 /**
@@ -192,7 +209,7 @@ export async function closeReportThreads() {
 export function reportsDb(): Db {
   const url = env.DATABASE_URL;
   // (An in-memory database exists only on its own connection: a second one would be another, empty one.)
-  if (!url.startsWith("file:") || url.includes(":memory:") || process.env.READ_THREAD === "off")
+  if (shutDown || !url.startsWith("file:") || url.includes(":memory:") || process.env.READ_THREAD === "off")
     return mainDb;
   // READ_THREADS: how many (default 2, one per core of the machine this was measured on).
   const size = Math.max(1, Math.min(8, Number(process.env.READ_THREADS ?? 2) || 2));

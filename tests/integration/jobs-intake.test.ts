@@ -231,12 +231,15 @@ describe("job list", () => {
       .where(eq(jobs.id, waiting.id));
     // Years of closed jobs, written directly (the intake path is tested above).
     const base = later.number;
+    // Closed in the order of their numbers, except the first one, which waited for parts and closed last.
+    const closedAt = (i: number) => new Date(Date.UTC(2025, 0, 1) + (i === 0 ? 400 : i) * 86_400_000);
     const closedRows = Array.from({ length: CLOSED_JOBS_SHOWN + 5 }, (_, i) => ({
       id: `closed-${shop.shopId}-${i}`,
       shopId: shop.shopId,
       number: base + 1 + i,
       state: "closed" as const,
-      stateChangedAt: new Date(Date.UTC(2025, 0, 1) + i * 86_400_000),
+      stateChangedAt: closedAt(i),
+      closedAt: closedAt(i),
     }));
     for (let i = 0; i < closedRows.length; i += 50) await db.insert(jobs).values(closedRows.slice(i, i + 50));
 
@@ -251,14 +254,14 @@ describe("job list", () => {
       oldestAt: waitingSince,
     });
     expect(open.stations.closed.count).toBe(CLOSED_JOBS_SHOWN + 5);
-    // For the line's exit: the three closed last (highest numbers here).
-    expect(open.stations.closed.numbers).toEqual([base + 205, base + 204, base + 203]);
+    // For the line's exit: the three closed last, by when they closed, not by number.
+    expect(open.stations.closed.numbers).toEqual([base + 1, base + 205, base + 204]);
     expect(open.stations.diagnosing).toEqual({ count: 0, numbers: [], oldestAt: null });
 
     const closed = await list(shop, "?state=closed");
     expect(closed.state).toBe("closed");
     expect(closed.rows).toHaveLength(CLOSED_JOBS_SHOWN);
-    expect(closed.rows[0].number).toBe(base + CLOSED_JOBS_SHOWN + 5);
+    expect(closed.rows.slice(0, 3).map((r) => r.number)).toEqual([base + 1, base + 205, base + 204]);
     expect(closed.rows.every((r) => r.state === "closed")).toBe(true);
 
     expect((await list(shop, "?state=received")).rows.map((r) => r.id)).toEqual([later.id, waiting.id]);
