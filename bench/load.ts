@@ -145,12 +145,17 @@ async function waitForHealth(timeoutMs = 30_000) {
 /**
  * Memory of the server and its worker processes (server.mjs forks WEB_CONCURRENCY workers), in MB: `VmRSS`
  * in all, or `RssAnon`, the anonymous part (heaps, native allocations), which is what a leak grows. The rest
- * is file-backed: the SQLite file is memory-mapped (mmap_size 256 MB per connection), so reading the 390 MB
+ * is file-backed: the SQLite file is memory-mapped (mmap_size 1 GiB per connection), so reading the 390 MB
  * bench file fills RSS with page cache the kernel can drop at will.
  */
-const rssMb = (pid: number, field: "VmRSS" | "RssAnon" = "VmRSS"): number => {
-  const m = new RegExp(`${field}:\\s+(\\d+) kB`).exec(readFileSync(`/proc/${pid}/status`, "utf8"));
-  const own = m ? Number(m[1]) / 1024 : Number.NaN;
+const rssMb = (pid: number, field: "VmRSS" | "RssAnon" = "VmRSS"): number =>
+  overProcessTree(pid, (p) => {
+    const m = new RegExp(`${field}:\\s+(\\d+) kB`).exec(readFileSync(`/proc/${p}/status`, "utf8"));
+    return m ? Number(m[1]) / 1024 : Number.NaN;
+  });
+
+/** A figure of a process summed with the same figure of all its descendants (server.mjs forks its workers). */
+function overProcessTree(pid: number, figure: (pid: number) => number): number {
   let children: number[] = [];
   try {
     children = readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8")
@@ -161,8 +166,8 @@ const rssMb = (pid: number, field: "VmRSS" | "RssAnon" = "VmRSS"): number => {
   } catch {
     children = [];
   }
-  return children.reduce((sum, child) => sum + rssMb(child, field), own);
-};
+  return children.reduce((sum, child) => sum + overProcessTree(child, figure), figure(pid));
+}
 
 async function signIn(email: string) {
   const res = await fetch(`${ORIGIN}/login`, {
@@ -228,22 +233,12 @@ function runCannon(opts: autocannon.Options): Promise<autocannon.Result> {
 }
 
 /** CPU time (user + system, ms) of the server and its worker processes so far, from /proc. */
-const cpuMs = (pid: number): number => {
-  const fields = readFileSync(`/proc/${pid}/stat`, "utf8").split(") ")[1].split(" ");
-  // utime and stime are fields 14 and 15 of stat, in clock ticks (100 per second on Linux).
-  const own = (Number(fields[11]) + Number(fields[12])) * 10;
-  let children: number[] = [];
-  try {
-    children = readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8")
-      .trim()
-      .split(/\s+/)
-      .filter(Boolean)
-      .map(Number);
-  } catch {
-    children = [];
-  }
-  return children.reduce((sum, child) => sum + cpuMs(child), own);
-};
+const cpuMs = (pid: number): number =>
+  overProcessTree(pid, (p) => {
+    const fields = readFileSync(`/proc/${p}/stat`, "utf8").split(") ")[1].split(" ");
+    // utime and stime are fields 14 and 15 of stat, in clock ticks (100 per second on Linux).
+    return (Number(fields[11]) + Number(fields[12])) * 10;
+  });
 
 /**
  * BENCH_PROBE=1: instead of the soak, sends each kind of request one after another and prints the server's CPU
