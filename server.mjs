@@ -36,17 +36,18 @@ if (workers > 1 && cluster.isPrimary) {
   process.on("SIGTERM", stop);
   process.on("SIGINT", stop);
 } else {
-  // A worker whose primary is gone has no one to hand it connections: end with it.
-  if (cluster.isWorker) process.on("disconnect", () => process.exit(0));
   // Ending through exit() lets Node finish its own work on the way out (e.g. a --cpu-prof profile), after the
-  // app has closed its insights read threads (2 s at most).
-  process.on("SIGTERM", async () => {
+  // app has closed its insights read threads (they give up waiting after 2 s; this after 2.5 s).
+  const end = async () => {
     await Promise.race([
       build?.entry?.module?.closeReportThreads?.(),
       new Promise((resolve) => setTimeout(resolve, 2500).unref()),
     ]).catch(() => {});
     process.exit(0);
-  });
+  };
+  // A worker whose primary is gone has no one to hand it connections: end with it.
+  if (cluster.isWorker) process.on("disconnect", end);
+  process.on("SIGTERM", end);
   await serve();
 }
 

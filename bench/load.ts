@@ -43,7 +43,9 @@ const SOAK_S = Number(process.env.BENCH_SOAK_S ?? 300);
 const RUN_READINGS = 25;
 // Seconds of the same load before the soak: the server's heaps and caches grow to their working size in the
 // first half minute of load (the 30-second memory trace shows it), which is not what the soak is to measure.
-const WARMUP_S = 30;
+const PROBE = process.env.BENCH_PROBE === "1";
+// (The probe sends its own requests one at a time after a short warm-up, and needs no soak's worth of runs.)
+const WARMUP_S = PROBE ? 3 : 30;
 const DB_FILE = `./data/h8-bench-load-${PORT}.db`;
 const BOARD = "demo-board-om5150";
 const PASSWORD = "bench-demo-2026";
@@ -344,7 +346,9 @@ async function main() {
       return runId;
     };
     // Enough runs for every connection's readings over warm-up and soak (with one to spare).
-    const perConn = Math.ceil(((SOAK_S + WARMUP_S + 2) * (RATE / CONNECTIONS) * 0.7) / RUN_READINGS) + 1;
+    const perConn = PROBE
+      ? 2
+      : Math.ceil(((SOAK_S + WARMUP_S + 2) * (RATE / CONNECTIONS) * 0.7) / RUN_READINGS) + 1;
     log(
       `starting ${CONNECTIONS * perConn} runs (${perConn} per connection, ${RUN_READINGS} readings each) …`,
     );
@@ -479,8 +483,8 @@ async function main() {
 
     // Warm-up (not measured): JIT, caches, SQLite pages, and the heaps grown to their working size, so the
     // soak's start and end memory compare the same steady state (BENCH_PROBE needs only a short one).
-    await phase(process.env.BENCH_PROBE === "1" ? 3 : WARMUP_S, RATE);
-    if (process.env.BENCH_PROBE === "1") {
+    await phase(WARMUP_S, RATE);
+    if (PROBE) {
       await probeCpu(server.pid!, conns, { tech, lead, analyst }, resync);
       return;
     }

@@ -28,6 +28,9 @@ export function openDatabase(url = env.DATABASE_URL, authToken = env.DATABASE_AU
 
 export type Db = ReturnType<typeof openDatabase>["db"];
 
+/** How every connection to a local file reads (the comment in `prepare` says why); the read threads too. */
+export const READ_PRAGMAS = ["PRAGMA cache_size=-16384", "PRAGMA mmap_size=1073741824"];
+
 async function prepare(client: ReturnType<typeof createClient>, db: Db) {
   if (env.DATABASE_URL.startsWith("file:")) {
     await client.execute("PRAGMA journal_mode=WAL");
@@ -41,8 +44,7 @@ async function prepare(client: ReturnType<typeof createClient>, db: Db) {
     // written). Per connection: this reaches the pool's first connection, the one every call reuses while no
     // transaction holds it (extra connections open only beside an open transaction); the insights read thread
     // sets the same on its own connection (read-thread.server.ts).
-    await client.execute("PRAGMA cache_size=-16384");
-    await client.execute("PRAGMA mmap_size=1073741824");
+    for (const pragma of READ_PRAGMAS) await client.execute(pragma);
   }
   await migrate(db, { migrationsFolder: migrationsFolder() });
   await installRollupTriggers(client);

@@ -12,7 +12,7 @@ import { createRequire } from "node:module";
 import { Worker } from "node:worker_threads";
 import type { Client, InStatement, ResultSet, Row } from "@libsql/client";
 import { drizzle } from "drizzle-orm/libsql";
-import { type Db, client as mainClient, db as mainDb } from "./db.server";
+import { type Db, client as mainClient, db as mainDb, READ_PRAGMAS } from "./db.server";
 import { env } from "./env.server";
 import * as schema from "./schema.server";
 
@@ -23,8 +23,7 @@ const { parentPort, workerData } = require("node:worker_threads");
 const { createClient } = require(workerData.clientPath);
 const client = createClient({ url: workerData.url, timeout: workerData.timeout });
 const ready = (async () => {
-  for (const p of ["PRAGMA query_only=ON", "PRAGMA cache_size=-16384", "PRAGMA mmap_size=1073741824"])
-    await client.execute(p);
+  for (const p of ["PRAGMA query_only=ON", ...workerData.pragmas]) await client.execute(p);
 })();
 parentPort.on("message", async ({ id, stmt, close }) => {
   if (close) {
@@ -82,6 +81,7 @@ class ReadThread {
         url: this.url,
         // The same busy timeout as the main connection (a WAL reader waits on recovery and some checkpoints).
         timeout: env.DATABASE_TIMEOUT_MS,
+        pragmas: READ_PRAGMAS,
         clientPath: createRequire(import.meta.url).resolve("@libsql/client"),
       },
     });
@@ -211,9 +211,9 @@ export function reportsDb(): Db {
   // (An in-memory database exists only on its own connection: a second one would be another, empty one.)
   if (shutDown || !url.startsWith("file:") || url.includes(":memory:") || process.env.READ_THREAD === "off")
     return mainDb;
-  // READ_THREADS: how many (default 2, one per core of the machine this was measured on).
-  const size = Math.max(1, Math.min(8, Number(process.env.READ_THREADS ?? 2) || 2));
   if (!readDb) {
+    // READ_THREADS: how many (default 2, one per core of the machine this was measured on).
+    const size = Math.max(1, Math.min(8, Number(process.env.READ_THREADS ?? 2) || 2));
     pool = new ThreadPoolClient(url, size);
     readDb = drizzle(pool as unknown as Client, { schema });
     // For whoever ends this process without importing this module (the test setup, per test file).

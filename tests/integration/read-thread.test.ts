@@ -25,6 +25,11 @@ describe.runIf(local)("the read thread of a local database file", () => {
     // Raw statements come back as objects by column name, as on the main connection.
     const [row] = await reports.all<{ n: number; label: string }>(sql`SELECT 41 + 1 AS n, 'x' AS label`);
     expect(row).toEqual({ n: 42, label: "x" });
+    // It reads as the main connection does (db-settings.test.ts): memory-mapped up to 1 GiB, 16 MB page cache.
+    const [mmap] = await reports.all<{ mmap_size: number }>(sql`PRAGMA mmap_size`);
+    expect(Number(mmap.mmap_size)).toBe(1024 ** 3);
+    const [cache] = await reports.all<{ cache_size: number }>(sql`PRAGMA cache_size`);
+    expect(Number(cache.cache_size)).toBe(-16 * 1024);
   });
 
   it("only reads: a write is refused and changes nothing", async () => {
