@@ -173,7 +173,7 @@ export async function action({ request, params }: Route.ActionArgs) {
           skip: v.intent === "skip",
           note: v.intent === "skip" ? (v.note ?? "Can't reach the probe point") : null,
         });
-        const view = await getRunView(shop.id, params.runId);
+        const view = await getRunView(shop.id, params.runId, answer.loaded);
         return data<ActionResult>({
           ok: true,
           intent: v.intent,

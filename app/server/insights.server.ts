@@ -516,46 +516,36 @@ export async function getPartsUsage(
   f: InsightsFilter,
   now = Date.now(),
 ): Promise<PartsUsage> {
-  // findings_parts walks the findings in (parts list, month) order, so they are counted per distinct list and
-  // month with no sort and no JSON per finding. The map version of each finding rides along as a list (the
-  // version is not in that order, and sorting every finding by it costs more than splitting a few lists here).
-  const groups = await db.all<{
-    month: string;
-    pu: string;
-    n: number;
-    v0: string;
-    v1: string;
-    vs: string;
-  }>(sql`
-    SELECT fd.created_month AS month, fd.parts_used AS pu, COUNT(*) AS n,
-           MIN(fd.run_version_id) AS v0, MAX(fd.run_version_id) AS v1,
-           group_concat(fd.run_version_id, char(9)) AS vs
+  // findings_parts_by_version walks the findings in (parts list, month, map version) order, so they are counted
+  // per group with no sort and no JSON per finding: one parsed list per group, a few thousand groups a year.
+  const groups = await db.all<{ month: string; pu: string; v: string; n: number }>(sql`
+    SELECT fd.created_month AS month, fd.parts_used AS pu, fd.run_version_id AS v, COUNT(*) AS n
     FROM findings fd
     WHERE ${findingConditions(shopId, f, { inOrder: true })} AND fd.parts_used IS NOT NULL
-    GROUP BY fd.parts_used, fd.created_month
+    GROUP BY fd.parts_used, fd.created_month, fd.run_version_id
   `);
   // Quantity per month, map version and reference designator.
   const qty = new Map<string, { month: string; versionId: string; refdes: string; n: number }>();
+  let listText = "";
+  let list: unknown = null;
   for (const g of groups) {
-    let list: unknown;
-    try {
-      list = JSON.parse(g.pu);
-    } catch {
-      continue;
+    // Groups arrive sorted by list, so each distinct list is parsed once.
+    if (g.pu !== listText) {
+      listText = g.pu;
+      try {
+        list = JSON.parse(g.pu);
+      } catch {
+        list = null;
+      }
     }
     if (!Array.isArray(list)) continue;
-    const perVersion = new Map<string, number>();
-    if (g.v0 === g.v1) perVersion.set(g.v0, Number(g.n));
-    else for (const v of g.vs.split("\t")) perVersion.set(v, (perVersion.get(v) ?? 0) + 1);
     for (const item of list) {
       if (typeof item !== "string" || !item.trim()) continue;
       const refdes = item.trim().toUpperCase();
-      for (const [versionId, n] of perVersion) {
-        const key = `${g.month}\u0000${versionId}\u0000${refdes}`;
-        const hit = qty.get(key);
-        if (hit) hit.n += n;
-        else qty.set(key, { month: g.month, versionId, refdes, n });
-      }
+      const key = `${g.month}\u0000${g.v}\u0000${refdes}`;
+      const hit = qty.get(key);
+      if (hit) hit.n += Number(g.n);
+      else qty.set(key, { month: g.month, versionId: g.v, refdes, n: Number(g.n) });
     }
   }
   const versionIds = JSON.stringify([...new Set([...qty.values()].map((q) => q.versionId))]);

@@ -502,16 +502,22 @@ function readingView(doc: MapDocument, r: ReadingRow, names: Map<string, string>
 
 export type ReadingView = ReturnType<typeof readingView>;
 
-/** Everything the walker, the report and the bench need about one run. */
-export async function getRunView(shopId: string, runId: string) {
-  const run = await getRunRow(shopId, runId);
+/** A run as a reading just left it: its row, map document and readings, read inside that save. */
+export type LoadedRun = { run: RunRow; doc: MapDocument; rows: ReadingRow[] };
+
+/**
+ * Everything the walker, the report and the bench need about one run. `loaded` is what a save of a reading
+ * has just read and written (the walker's answer to that reading), so they are not read a second time.
+ */
+export async function getRunView(shopId: string, runId: string, loaded?: LoadedRun) {
+  const run = loaded?.run ?? (await getRunRow(shopId, runId));
   if (!run) return null;
-  const doc = await getVersionDoc(shopId, run.mapVersionId);
+  const doc = loaded?.doc ?? (await getVersionDoc(shopId, run.mapVersionId));
   if (!doc) throw new RunError(400, "The run's map version cannot be read.");
   const [board, version, rows, notes, findingRows, job] = await Promise.all([
     hot.board.get({ boardId: run.boardId, shopId }),
     hot.version.get({ versionId: run.mapVersionId }),
-    hot.readings.all({ runId: run.id }),
+    loaded?.rows ?? hot.readings.all({ runId: run.id }),
     hot.notes.all({ runId: run.id }),
     hot.findings.all({ runId: run.id }),
     run.jobId
@@ -725,6 +731,8 @@ export type SaveReadingInput = {
 export type SaveReadingAnswer = {
   ok: true;
   replay: boolean;
+  /** The run after a new reading (not on a replay): for getRunView, so the answer needs no second read. */
+  loaded?: LoadedRun;
   reading: {
     id: string;
     seq: number;
@@ -841,8 +849,8 @@ export async function saveReading(input: SaveReadingInput): Promise<SaveReadingA
       .where(
         and(eq(runNotes.id, input.leadStepId), eq(runNotes.runId, run.id), isNull(runNotes.doneReadingId)),
       );
-  const status = await refreshRunStatus(input.shopId, run.id, { run, doc });
-  return answerFor(doc, row, false, status);
+  const loaded = await refreshRun(input.shopId, run, doc);
+  return { ...answerFor(doc, row, false, loaded.run.status), loaded };
 }
 
 function conflict(otherUser: string | undefined, me: string) {
@@ -854,14 +862,11 @@ function conflict(otherUser: string | undefined, me: string) {
   );
 }
 
-/** Recomputes status and the current round's finding row after the readings changed. */
-export async function refreshRunStatus(
-  shopId: string,
-  runId: string,
-  loaded?: { run: RunRow; doc: MapDocument },
-): Promise<RunRow["status"]> {
-  const run = loaded?.run ?? (await getRunRow(shopId, runId))!;
-  const doc = loaded?.doc ?? (await getVersionDoc(shopId, run.mapVersionId))!;
+/**
+ * Recomputes status and the current round's finding row after the readings changed; answers the run as updated,
+ * with the readings it was judged on.
+ */
+async function refreshRun(shopId: string, run: RunRow, doc: MapDocument): Promise<LoadedRun> {
   const rows = await hot.readings.all({ runId: run.id });
   const { analysis } = await analyseRun(shopId, run, doc, rows);
   const f = analysis.isolated ? analysis.finding : null;
@@ -876,13 +881,13 @@ export async function refreshRunStatus(
   const findingId = `${run.id}-r${run.round}`;
   const current = await hot.findingById.get({ id: findingId });
   const ops = [];
-  if (status !== run.status)
+  let after = run;
+  if (status !== run.status) {
+    after = { ...run, status, isolatedAt: status === "open" ? null : (run.isolatedAt ?? new Date()) };
     ops.push(
-      db
-        .update(runs)
-        .set({ status, isolatedAt: status === "open" ? null : (run.isolatedAt ?? new Date()) })
-        .where(eq(runs.id, run.id)),
+      db.update(runs).set({ status: after.status, isolatedAt: after.isolatedAt }).where(eq(runs.id, run.id)),
     );
+  }
   if (f && !current?.outcome && (current?.kind !== f.kind || current?.nodeId !== f.nodeId)) {
     const values = { kind: f.kind, nodeId: f.nodeId };
     ops.push(
@@ -905,7 +910,7 @@ export async function refreshRunStatus(
     await db.batch(ops as [(typeof ops)[number], ...typeof ops]);
     forgetShopCaches(shopId);
   }
-  return status;
+  return { run: after, doc, rows };
 }
 
 // ---------------------------------------------------------------------------------------------------------

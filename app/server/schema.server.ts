@@ -439,15 +439,16 @@ export const findings = sqliteTable(
         t.outcome,
       )
       .where(sql`${t.fixKind} IS NOT NULL AND ${t.outcome} IS NOT NULL`),
-    // Insights: parts per month, grouped in index order by the parts list and the UTC month.
-    index("findings_parts")
+    // Insights: parts per month, counted in index order by parts list, UTC month and map version (the version
+    // before the window's columns, so no group needs a sort or a list of versions to split afterwards).
+    index("findings_parts_by_version")
       .on(
         t.shopId,
         t.partsUsed,
         t.createdMonth,
+        t.runVersionId,
         t.runStartedAt,
         t.runBoardId,
-        t.runVersionId,
         t.runTechId,
         t.runOutcome,
       )

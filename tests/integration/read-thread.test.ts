@@ -32,6 +32,34 @@ describe.runIf(local)("the read thread of a local database file", () => {
     expect(Number(cache.cache_size)).toBe(-16 * 1024);
   });
 
+  it("answers rows in the main connection's shape: by name, by index, and as value lists", async () => {
+    const reports = reportsDb();
+    // One statement with plain column names (the fast path) and one with a repeated name (the one-by-one path).
+    for (const query of [
+      "SELECT 1 AS a, 'two' AS b, NULL AS c UNION ALL SELECT 3, 'four', 5.5",
+      "SELECT 1 AS a, 2 AS a, 'x' AS b",
+    ]) {
+      const [mine, theirs] = await Promise.all([reports.$client.execute(query), db.$client.execute(query)]);
+      expect(mine.columns).toEqual(theirs.columns);
+      expect(mine.rows.length).toBe(theirs.rows.length);
+      mine.rows.forEach((row, i) => {
+        const other = theirs.rows[i];
+        expect(Object.keys(row)).toEqual(Object.keys(other));
+        expect({ ...row }).toEqual({ ...other });
+        expect(row.length).toBe(other.length);
+        // drizzle reads a select's values by index (Array.prototype.slice over the row).
+        expect(Array.prototype.slice.call(row)).toEqual(Array.prototype.slice.call(other));
+        expect(JSON.stringify(row)).toBe(JSON.stringify(other));
+      });
+    }
+    // Drizzle's own selects through both connections give the same objects.
+    const [a, b] = await Promise.all([
+      reports.select({ id: shops.id, name: shops.name }).from(shops).limit(3).all(),
+      db.select({ id: shops.id, name: shops.name }).from(shops).limit(3).all(),
+    ]);
+    expect(a).toEqual(b);
+  });
+
   it("only reads: a write is refused and changes nothing", async () => {
     const shop = await createShopWithRoles("Read-only shop");
     const refused = await reportsDb()

@@ -290,6 +290,23 @@ describe("finding, fix and outcome", () => {
   // Injected fault: R362, the series resistor on the 3.3 V standby enable, is open.
   const sim = simulateBoard(OM_5150_MAP, BOTH, { part: "r-en3" });
 
+  it("answers each reading with the run as a fresh load shows it, the isolating reading included", async () => {
+    // The answer's view is built from what the save itself read and wrote (no second read of the run and its
+    // readings), so it must match the loader's view exactly, status and isolation time included.
+    const runId = await newRun();
+    let sawIsolation = false;
+    for (let i = 0; i < 30; i++) {
+      const before = await view(runId);
+      if (!before.step) break;
+      const res = await takeStep(runId, sim);
+      const answered = (res.data as { view: Loaded["view"] }).view;
+      const fresh = await view(runId);
+      expect(answered).toEqual(fresh);
+      if (fresh.run.status === "isolated") sawIsolation = true;
+    }
+    expect(sawIsolation).toBe(true);
+  });
+
   it("isolates the open resistor, records the finding and closes on 'powers on'", async () => {
     const runId = await newRun();
     const v = await walkToFinding(runId, sim);

@@ -1,0 +1,2 @@
+DROP INDEX `findings_parts`;--> statement-breakpoint
+CREATE INDEX `findings_parts_by_version` ON `findings` (`shop_id`,`parts_used`,`created_month`,`run_version_id`,`run_started_at`,`run_board_id`,`run_tech_id`,`run_outcome`) WHERE "findings"."parts_used" IS NOT NULL;
