@@ -15,6 +15,9 @@
 // 99 % of the offered one. After a 30-second warm-up at the same rate, server memory is read from /proc at the
 // start and end of the soak, and every 30 s between.
 //
+// BENCH_HEAP=1 adds another diagnosis: heap snapshots of every worker at the soak's start and end, and the live
+// JavaScript heap they hold (what a leak grows, free of the garbage V8 has not collected yet). Each snapshot
+// pauses its worker for a few seconds, so the latency figures of such a run are disturbed.
 // BENCH_PROBE=1 replaces the soak by a diagnosis: each kind of request sent alone, one after another, with the
 // server's CPU time per request (BENCH_PROBE_N requests each, BENCH_PROBE_ONLY=<label text> to pick kinds).
 // Data: a copy of the insights bench file (bench/insights-seed.ts: 100,000 runs and 1,000,000 readings in its
@@ -23,7 +26,7 @@
 // query the million readings. Insights loads rotate through the hot spots, runs and parts pages.
 // Last line: RESULT walker_p95_ms=<ms> other_p95_max_ms=<ms> achieved_rps=<n> errors=<n> rss_growth_mb=<mb>
 import { type ChildProcess, execSync, spawn } from "node:child_process";
-import { copyFileSync, existsSync, readFileSync, rmSync } from "node:fs";
+import { copyFileSync, existsSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync } from "node:fs";
 import { createClient } from "@libsql/client";
 import autocannon from "autocannon";
 import { hashPassword } from "~/server/password.server";
@@ -37,6 +40,8 @@ const RATE = Number(process.env.BENCH_RATE ?? 150);
 if (!Number.isInteger(RATE / 50) || RATE <= 0)
   throw new Error(`BENCH_RATE must be a positive multiple of 50 (one request/s per connection); got ${RATE}`);
 const SOAK_S = Number(process.env.BENCH_SOAK_S ?? 300);
+const HEAP = process.env.BENCH_HEAP === "1";
+const HEAP_DIR = `/tmp/railwise-bench-heap-${process.pid}`;
 // A walker run of the demo map takes a handful of readings to a few dozen: each connection starts on a fresh
 // run after this many, as a tech moves on to the next board (one run would otherwise grow to hundreds of
 // readings over the soak, which no bench session does).
@@ -115,6 +120,10 @@ async function prepareData() {
 function startServer(): ChildProcess {
   // BENCH_NODE_ARGS, e.g. "--cpu-prof --cpu-prof-dir=/tmp/prof", is passed to the server's node.
   const nodeArgs = (process.env.BENCH_NODE_ARGS ?? "").split(" ").filter(Boolean);
+  if (HEAP) {
+    mkdirSync(HEAP_DIR, { recursive: true });
+    nodeArgs.push("--heapsnapshot-signal=SIGUSR2", `--diagnostic-dir=${HEAP_DIR}`);
+  }
   return spawn(process.execPath, [...nodeArgs, "server.mjs"], {
     env: {
       ...process.env,
@@ -155,6 +164,50 @@ const rssMb = (pid: number, field: "VmRSS" | "RssAnon" = "VmRSS"): number =>
     const m = new RegExp(`${field}:\\s+(\\d+) kB`).exec(readFileSync(`/proc/${p}/status`, "utf8"));
     return m ? Number(m[1]) / 1024 : Number.NaN;
   });
+
+/**
+ * BENCH_HEAP=1: the live JavaScript heap of the server's workers in MB, from a heap snapshot of each (a snapshot
+ * collects garbage first, so it holds only what is reachable). The main threads only; the read threads hold
+ * statements in flight and nothing else.
+ */
+async function liveHeapMb(pid: number): Promise<number> {
+  let children: number[] = [];
+  try {
+    children = readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8")
+      .trim()
+      .split(/\s+/)
+      .filter(Boolean)
+      .map(Number);
+  } catch {}
+  const workers = children.length ? children : [pid];
+  let total = 0;
+  for (const worker of workers) {
+    const before = new Set(readdirSync(HEAP_DIR));
+    process.kill(worker, "SIGUSR2");
+    // The file appears at once and grows while V8 writes it; it is complete once its size stops changing.
+    let file = "";
+    let size = -1;
+    for (let waited = 0; waited < 120_000; waited += 500) {
+      await new Promise((r) => setTimeout(r, 500));
+      file ||= readdirSync(HEAP_DIR).find((f) => !before.has(f) && f.includes(`.${worker}.`)) ?? "";
+      if (!file) continue;
+      const now = statSync(`${HEAP_DIR}/${file}`).size;
+      if (now > 0 && now === size) break;
+      size = now;
+    }
+    if (!file) throw new Error(`worker ${worker} wrote no heap snapshot`);
+    const snap = JSON.parse(readFileSync(`${HEAP_DIR}/${file}`, "utf8")) as {
+      snapshot: { meta: { node_fields: string[] } };
+      nodes: number[];
+    };
+    rmSync(`${HEAP_DIR}/${file}`);
+    const fields = snap.snapshot.meta.node_fields;
+    const width = fields.length;
+    const selfSize = fields.indexOf("self_size");
+    for (let i = selfSize; i < snap.nodes.length; i += width) total += snap.nodes[i];
+  }
+  return total / 1e6;
+}
 
 /** A figure of a process summed with the same figure of all its descendants (server.mjs forks its workers). */
 function overProcessTree(pid: number, figure: (pid: number) => number): number {
@@ -494,6 +547,7 @@ async function main() {
       await resync(c, "reading");
       await resync(c, "save");
     }
+    const heapStart = HEAP ? await liveHeapMb(server.pid!) : 0;
     const rssStart = rssMb(server.pid!);
     const anonStart = rssMb(server.pid!, "RssAnon");
     log(
@@ -536,6 +590,12 @@ async function main() {
     log(
       `server RSS: start ${rssStart.toFixed(1)} MB, end ${rssEnd.toFixed(1)} MB; anonymous (heap and native, the growth figure): start ${anonStart.toFixed(1)} MB, end ${anonEnd.toFixed(1)} MB`,
     );
+    if (HEAP) {
+      const heapEnd = await liveHeapMb(server.pid!);
+      log(
+        `live JavaScript heap of the workers (heap snapshots): start ${heapStart.toFixed(1)} MB, end ${heapEnd.toFixed(1)} MB (the snapshots paused the workers: latencies disturbed)`,
+      );
+    }
     if (!valid) log(`VOID: achieved ${achieved.toFixed(1)} < 99 % of the offered ${RATE} requests/s`);
     const otherMax = Math.max(p95.save, p95.page, p95.insights);
     const growth = anonEnd - anonStart;
@@ -551,6 +611,7 @@ async function main() {
   } finally {
     db.close();
     server.kill("SIGTERM");
+    if (HEAP) rmSync(HEAP_DIR, { recursive: true, force: true });
   }
 }
 
