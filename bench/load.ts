@@ -17,7 +17,8 @@
 //
 // BENCH_HEAP=1 adds another diagnosis: heap snapshots of every worker at the soak's start and end, and the live
 // JavaScript heap they hold (what a leak grows, free of the garbage V8 has not collected yet). Each snapshot
-// pauses its worker for a few seconds, so the latency figures of such a run are disturbed.
+// pauses its worker for a few seconds and grows its native memory, so the latency and memory figures of such a
+// run are disturbed.
 // BENCH_PROBE=1 replaces the soak by a diagnosis: each kind of request sent alone, one after another, with the
 // server's CPU time per request (BENCH_PROBE_N requests each, BENCH_PROBE_ONLY=<label text> to pick kinds).
 // Data: a copy of the insights bench file (bench/insights-seed.ts: 100,000 runs and 1,000,000 readings in its
@@ -593,7 +594,7 @@ async function main() {
     if (HEAP) {
       const heapEnd = await liveHeapMb(server.pid!);
       log(
-        `live JavaScript heap of the workers (heap snapshots): start ${heapStart.toFixed(1)} MB, end ${heapEnd.toFixed(1)} MB (the snapshots paused the workers: latencies disturbed)`,
+        `live JavaScript heap of the workers (heap snapshots): start ${heapStart.toFixed(1)} MB, end ${heapEnd.toFixed(1)} MB (taking them paused the workers and grew their native memory: this run's latency and memory figures are disturbed)`,
       );
     }
     if (!valid) log(`VOID: achieved ${achieved.toFixed(1)} < 99 % of the offered ${RATE} requests/s`);
