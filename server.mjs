@@ -22,18 +22,14 @@ if (workers > 1 && cluster.isPrimary) {
   );
   if (heapMb > 0 && !limited)
     cluster.setupPrimary({ execArgv: [...process.execArgv, `--max-old-space-size=${heapMb}`] });
-  // glibc gives each thread that allocates its own malloc arena (the read threads, libuv's pool), and memory
-  // freed into one is rarely handed back: two arenas keep a worker's native memory flat over a soak (the load
-  // bench, docs/benchmarks.md). A value already in the environment wins.
-  const fork = () => cluster.fork({ MALLOC_ARENA_MAX: process.env.MALLOC_ARENA_MAX ?? "2" });
-  const first = fork();
+  const first = cluster.fork();
   first.once("listening", () => {
-    for (let i = 1; i < workers; i++) fork();
+    for (let i = 1; i < workers; i++) cluster.fork();
   });
   cluster.on("exit", (worker, code, signal) => {
     if (stopping) return;
     console.error(`worker ${worker.process.pid} ended (${signal ?? code}); starting another`);
-    fork();
+    cluster.fork();
   });
   // The primary hands connections to the workers, so it waits for them to end (or 5 s) before it goes.
   const stop = () => {
