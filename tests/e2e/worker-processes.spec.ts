@@ -10,9 +10,11 @@ const DB_FILE = `./data/h8-workers-${process.pid}.db`;
 
 async function workerArgs(env: Record<string, string>): Promise<string[][]> {
   const port = await freePort();
+  // This machine's own setting must not stand in for server.mjs's default.
+  const { WORKER_HEAP_MB: _heap, ...inherited } = process.env;
   const child: ChildProcess = spawn(process.execPath, ["server.mjs"], {
     env: {
-      ...process.env,
+      ...inherited,
       NODE_ENV: "production",
       PORT: String(port),
       HOST: "127.0.0.1",
