@@ -1,7 +1,7 @@
 import { readFile } from "node:fs/promises";
 import { expect, test } from "@playwright/test";
 import { parse } from "csv-parse/sync";
-import { DEMO, signIn } from "./support";
+import { DEMO, signIn, waitForHydration } from "./support";
 
 // Needs the demo history (seedDemoHistory, called by the demo seed) so the hot spots are not empty.
 test("a lead filters hot spots by board and exports the same rows as CSV", async ({ page }) => {
@@ -62,6 +62,8 @@ test("a lead picks one map version of a board, and the shaded map keeps it", asy
   await signIn(page, DEMO.lead);
   await page.goto("/insights");
   const form = page.getByRole("form", { name: "Filters" });
+  // The narrowing below is the script's: pick the board once React owns the form.
+  await waitForHydration(page, "#f-board");
   await form.getByLabel("Board").selectOption({ label: "OM-5150 rev C · Marlow 15" });
   // Narrowed to the chosen board's versions.
   const version = form.getByLabel("Map version");

@@ -34,3 +34,15 @@ export async function waitForEmail(page: Page, to: string, subject: RegExp): Pro
 
 export const uniqueEmail = (prefix: string) =>
   `${prefix}-${Date.now()}-${Math.floor(Math.random() * 1e6)}@e2e.example`;
+
+/**
+ * Waits until React has hydrated the element `selector` names (React attaches its fiber to a node once it owns
+ * it). A control that only narrows or reveals through React state must not be used before: a change made to
+ * the server-rendered page is not seen by the state the hydrated page starts from.
+ */
+export async function waitForHydration(page: Page, selector: string) {
+  await page.waitForFunction((s) => {
+    const el = document.querySelector(s);
+    return !!el && Object.keys(el).some((k) => k.startsWith("__reactFiber"));
+  }, selector);
+}
