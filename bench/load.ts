@@ -172,14 +172,7 @@ const rssMb = (pid: number, field: "VmRSS" | "RssAnon" = "VmRSS"): number =>
  * statements in flight and nothing else.
  */
 async function liveHeapMb(pid: number): Promise<number> {
-  let children: number[] = [];
-  try {
-    children = readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8")
-      .trim()
-      .split(/\s+/)
-      .filter(Boolean)
-      .map(Number);
-  } catch {}
+  const children = childrenOf(pid);
   const workers = children.length ? children : [pid];
   let total = 0;
   for (const worker of workers) {
@@ -212,17 +205,20 @@ async function liveHeapMb(pid: number): Promise<number> {
 
 /** A figure of a process summed with the same figure of all its descendants (server.mjs forks its workers). */
 function overProcessTree(pid: number, figure: (pid: number) => number): number {
-  let children: number[] = [];
+  return childrenOf(pid).reduce((sum, child) => sum + overProcessTree(child, figure), figure(pid));
+}
+
+/** The process ids a process has started (none once it has ended). */
+function childrenOf(pid: number): number[] {
   try {
-    children = readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8")
+    return readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8")
       .trim()
       .split(/\s+/)
       .filter(Boolean)
       .map(Number);
   } catch {
-    children = [];
+    return [];
   }
-  return children.reduce((sum, child) => sum + overProcessTree(child, figure), figure(pid));
 }
 
 async function signIn(email: string) {

@@ -3,6 +3,7 @@ import { rmSync } from "node:fs";
 import { createClient } from "@libsql/client";
 import { expect, test } from "@playwright/test";
 import { freePort } from "../support/libsql-server";
+import { productionServerEnv } from "./support";
 
 // The production server is killed (SIGKILL: no shutdown hooks, no flush) in the middle of a burst of walker
 // readings; after a restart on the same database file, every reading the server acknowledged with a 2xx is there.
@@ -19,19 +20,7 @@ const READINGS: Array<[string, string]> = [
 
 async function startServer(port: number) {
   const child: ChildProcess = spawn(process.execPath, ["server.mjs"], {
-    env: {
-      ...process.env,
-      NODE_ENV: "production",
-      PORT: String(port),
-      HOST: "127.0.0.1",
-      RAILWISE_BUILD_DIR: process.env.RAILWISE_BUILD_DIR ?? "build",
-      DATABASE_URL: `file:${DB_FILE}`,
-      SEED_DEMO: "1",
-      MAIL_CAPTURE: "1",
-      SECURE_COOKIES: "0",
-      SIGNIN_MAX_PER_ADDRESS: "100000",
-      SESSION_SECRET: "durability-session-secret-0123456789",
-    },
+    env: productionServerEnv(port, DB_FILE, { SEED_DEMO: "1", SIGNIN_MAX_PER_ADDRESS: "100000" }),
     stdio: ["ignore", "ignore", "inherit"],
   });
   const base = `http://127.0.0.1:${port}`;

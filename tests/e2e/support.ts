@@ -46,3 +46,24 @@ export async function waitForHydration(page: Page, selector: string) {
     return !!el && Object.keys(el).some((k) => k.startsWith("__reactFiber"));
   }, selector);
 }
+
+/** The environment of a production server.mjs a test starts itself, on its own database file and port. */
+export function productionServerEnv(
+  port: number,
+  dbFile: string,
+  extra: Record<string, string> = {},
+  inherited: NodeJS.ProcessEnv = process.env,
+): NodeJS.ProcessEnv {
+  return {
+    ...inherited,
+    NODE_ENV: "production",
+    PORT: String(port),
+    HOST: "127.0.0.1",
+    RAILWISE_BUILD_DIR: process.env.RAILWISE_BUILD_DIR ?? "build",
+    DATABASE_URL: `file:${dbFile}`,
+    MAIL_CAPTURE: "1",
+    SECURE_COOKIES: "0",
+    SESSION_SECRET: "e2e-server-session-secret-0123456789",
+    ...extra,
+  };
+}

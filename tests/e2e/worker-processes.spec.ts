@@ -2,6 +2,7 @@ import { type ChildProcess, spawn } from "node:child_process";
 import { readFileSync, rmSync } from "node:fs";
 import { expect, test } from "@playwright/test";
 import { freePort } from "../support/libsql-server";
+import { productionServerEnv } from "./support";
 
 // server.mjs with WEB_CONCURRENCY=2: the workers it forks run with the JavaScript heap limit WORKER_HEAP_MB sets
 // (256 MB by default, docs/benchmarks.md on why), and without one when it is 0. Node-side only.
@@ -13,20 +14,7 @@ async function workerArgs(env: Record<string, string>): Promise<string[][]> {
   // This machine's own setting must not stand in for server.mjs's default.
   const { WORKER_HEAP_MB: _heap, ...inherited } = process.env;
   const child: ChildProcess = spawn(process.execPath, ["server.mjs"], {
-    env: {
-      ...inherited,
-      NODE_ENV: "production",
-      PORT: String(port),
-      HOST: "127.0.0.1",
-      RAILWISE_BUILD_DIR: process.env.RAILWISE_BUILD_DIR ?? "build",
-      DATABASE_URL: `file:${DB_FILE}`,
-      MAIL_CAPTURE: "1",
-      SECURE_COOKIES: "0",
-      SESSION_SECRET: "workers-session-secret-0123456789",
-      WEB_CONCURRENCY: "2",
-      NODE_OPTIONS: "",
-      ...env,
-    },
+    env: productionServerEnv(port, DB_FILE, { WEB_CONCURRENCY: "2", NODE_OPTIONS: "", ...env }, inherited),
     stdio: ["ignore", "ignore", "inherit"],
   });
   try {
