@@ -23,6 +23,7 @@ import {
   startRun,
   validateMap,
 } from "~/lib/engine";
+import { guard, isPlainData, ok } from "~/lib/engine/result";
 import { chainMap } from "../../bench/lib/maps";
 import { OM_5150_MAP } from "../../seed/maps/om-5150";
 
@@ -114,6 +115,39 @@ describe("bad input never escapes as an exception", () => {
       ),
       { numRuns: 500 },
     );
+  });
+
+  it("a value zod's size check throws on is refused as invalid input (fast-check seed -632343605)", () => {
+    // A list whose `length` holds a null-prototype object: zod's max-length check compares it as a number.
+    const outcomes = [[{ length: [Object.create(null)] }]];
+    const r = expectedCostObserveFirst(1, actions, outcomes as never);
+    expect(r.ok).toBe(false);
+    if (!r.ok) expect(r.error.code).toBe("invalid-input");
+  });
+
+  it("the guard calls a failure on plain data internal, and tells plain data from the rest", () => {
+    const broken = guard((_: unknown) => {
+      throw new Error("a bug");
+    });
+    const onPlain = broken({ list: [1, "two", null, { deep: true }] });
+    expect(!onPlain.ok && onPlain.error.code).toBe("internal");
+    const onExotic = broken({ list: [new Map()] });
+    expect(!onExotic.ok && onExotic.error.code).toBe("invalid-input");
+    expect(guard(() => ok(1))()).toEqual(ok(1));
+    const cyclic: Record<string, unknown> = { a: 1 };
+    cyclic.self = cyclic;
+    expect(isPlainData(cyclic)).toBe(true);
+    for (const bad of [
+      Object.create(null),
+      1n,
+      new Date(0),
+      new Set(),
+      Object(1),
+      new Array(3), // a list of three holes
+      () => 1,
+      Symbol("s"),
+    ])
+      expect(isPlainData({ x: [bad] })).toBe(false);
   });
 
   it("mutated maps yield a validation list or a typed error", () => {
