@@ -539,13 +539,14 @@ export async function getPartsUsage(
       }
     }
     if (!Array.isArray(list)) continue;
+    const n = Number(g.n);
     for (const item of list) {
       if (typeof item !== "string" || !item.trim()) continue;
       const refdes = item.trim().toUpperCase();
       const key = `${g.month}\u0000${g.v}\u0000${refdes}`;
       const hit = qty.get(key);
-      if (hit) hit.n += Number(g.n);
-      else qty.set(key, { month: g.month, versionId: g.v, refdes, n: Number(g.n) });
+      if (hit) hit.n += n;
+      else qty.set(key, { month: g.month, versionId: g.v, refdes, n });
     }
   }
   const versionIds = JSON.stringify([...new Set([...qty.values()].map((q) => q.versionId))]);

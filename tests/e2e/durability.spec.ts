@@ -20,7 +20,7 @@ const READINGS: Array<[string, string]> = [
 
 async function startServer(port: number) {
   const child: ChildProcess = spawn(process.execPath, ["server.mjs"], {
-    env: productionServerEnv(port, DB_FILE, { SEED_DEMO: "1", SIGNIN_MAX_PER_ADDRESS: "100000" }),
+    env: productionServerEnv(port, `file:${DB_FILE}`, { SEED_DEMO: "1", SIGNIN_MAX_PER_ADDRESS: "100000" }),
     stdio: ["ignore", "ignore", "inherit"],
   });
   const base = `http://127.0.0.1:${port}`;

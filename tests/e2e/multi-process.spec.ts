@@ -2,6 +2,7 @@ import { type ChildProcess, spawn } from "node:child_process";
 import { existsSync } from "node:fs";
 import { expect, test } from "@playwright/test";
 import { freePort, SQLD_BINARY, startSqld } from "../support/libsql-server";
+import { productionServerEnv } from "./support";
 
 // Two app processes against one real libSQL server: the app keeps no state of its own between requests,
 // so a sign-up on one process is a session on the other, and a write on either is seen by both.
@@ -9,17 +10,7 @@ import { freePort, SQLD_BINARY, startSqld } from "../support/libsql-server";
 async function startApp(databaseUrl: string) {
   const port = await freePort();
   const child: ChildProcess = spawn("node", ["server.mjs"], {
-    env: {
-      ...process.env,
-      PORT: String(port),
-      HOST: "127.0.0.1",
-      DATABASE_URL: databaseUrl,
-      MAIL_CAPTURE: "1",
-      SECURE_COOKIES: "0",
-      SEED_DEMO: "0",
-      SESSION_SECRET: "multi-process-secret-0123456789",
-      RAILWISE_BUILD_DIR: process.env.RAILWISE_BUILD_DIR ?? "build",
-    },
+    env: productionServerEnv(port, databaseUrl, { SEED_DEMO: "0" }),
     stdio: "ignore",
   });
   const base = `http://127.0.0.1:${port}`;

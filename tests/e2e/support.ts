@@ -47,10 +47,10 @@ export async function waitForHydration(page: Page, selector: string) {
   }, selector);
 }
 
-/** The environment of a production server.mjs a test starts itself, on its own database file and port. */
+/** The environment of a production server.mjs a test starts itself, on its own database and port. */
 export function productionServerEnv(
   port: number,
-  dbFile: string,
+  databaseUrl: string,
   extra: Record<string, string> = {},
   inherited: NodeJS.ProcessEnv = process.env,
 ): NodeJS.ProcessEnv {
@@ -60,7 +60,7 @@ export function productionServerEnv(
     PORT: String(port),
     HOST: "127.0.0.1",
     RAILWISE_BUILD_DIR: process.env.RAILWISE_BUILD_DIR ?? "build",
-    DATABASE_URL: `file:${dbFile}`,
+    DATABASE_URL: databaseUrl,
     MAIL_CAPTURE: "1",
     SECURE_COOKIES: "0",
     SESSION_SECRET: "e2e-server-session-secret-0123456789",

@@ -14,7 +14,12 @@ async function workerArgs(env: Record<string, string>): Promise<string[][]> {
   // This machine's own setting must not stand in for server.mjs's default.
   const { WORKER_HEAP_MB: _heap, ...inherited } = process.env;
   const child: ChildProcess = spawn(process.execPath, ["server.mjs"], {
-    env: productionServerEnv(port, DB_FILE, { WEB_CONCURRENCY: "2", NODE_OPTIONS: "", ...env }, inherited),
+    env: productionServerEnv(
+      port,
+      `file:${DB_FILE}`,
+      { WEB_CONCURRENCY: "2", NODE_OPTIONS: "", ...env },
+      inherited,
+    ),
     stdio: ["ignore", "ignore", "inherit"],
   });
   try {
