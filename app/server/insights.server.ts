@@ -93,6 +93,18 @@ function shared<T>(
   return p;
 }
 
+/**
+ * The window as UTC day numbers, when the view can be summed from the daily rollups (rollup_day_*, kept by
+ * triggers in schema.server.ts): no board, version, technician or outcome filter, and whole days, which the
+ * filter form always gives. INSIGHTS_ROLLUPS=off reads the rows instead (the tests compare the two).
+ */
+function rollupDays(f: InsightsFilter): { from: number; to: number } | null {
+  if (f.boardId || f.versionId || f.techId || f.outcome || process.env.INSIGHTS_ROLLUPS === "off")
+    return null;
+  if (f.fromMs % DAY_MS !== 0 || f.toMs % DAY_MS !== 0) return null;
+  return { from: f.fromMs / DAY_MS, to: f.toMs / DAY_MS };
+}
+
 function wilson(k: number, n: number): FailureRate {
   const r = failureRate(k, n);
   return r.ok ? r.value : { rate: 0, low: 0, high: 1 };
@@ -214,14 +226,21 @@ type StrategyRow = {
  * mean from that small histogram (nearest rank: the first count whose cumulative share reaches the rank).
  */
 function strategySummary(db: Db, shopId: string, f: InsightsFilter): Promise<StrategyRow[]> {
-  return shared(db, "strategies", shopId, f, () =>
-    db.all<StrategyRow>(sql`
-      WITH h AS (
-        SELECT r.strategy, r.reading_count AS rc, COUNT(*) AS runs, COUNT(r.isolated_at) AS isolated,
+  const days = rollupDays(f);
+  // The histogram: summed from the daily rollup for an unfiltered view, counted from the runs otherwise.
+  const histogram = days
+    ? sql`SELECT d.strategy, d.reading_count AS rc, SUM(d.runs) AS runs, SUM(d.isolated) AS isolated,
+               SUM(d.escalated) AS escalated
+        FROM rollup_day_strategies d
+        WHERE d.shop_id = ${shopId} AND d.day >= ${days.from} AND d.day < ${days.to}
+        GROUP BY d.strategy, d.reading_count HAVING SUM(d.runs) > 0`
+    : sql`SELECT r.strategy, r.reading_count AS rc, COUNT(*) AS runs, COUNT(r.isolated_at) AS isolated,
                COUNT(r.escalated_at) AS escalated
         FROM runs r WHERE ${runConditions(shopId, f, { inOrder: true })}
-        GROUP BY r.strategy, r.reading_count
-      ),
+        GROUP BY r.strategy, r.reading_count`;
+  return shared(db, "strategies", shopId, f, () =>
+    db.all<StrategyRow>(sql`
+      WITH h AS (${histogram}),
       h2 AS (
         SELECT strategy, rc, runs, isolated, escalated FROM h
         UNION ALL SELECT 'all', rc, SUM(runs), SUM(isolated), SUM(escalated) FROM h GROUP BY rc
@@ -358,13 +377,14 @@ function jobSpans(shopId: string, f: InsightsFilter) {
       GROUP BY j.serial, j.number, j.id -- the order of jobs_serial_repeats: no sort
     ),
     seq AS (
-      SELECT jr.*, LEAD(job_number) OVER win AS next_job_number, LEAD(started) OVER win AS next_started,
-             LEAD(job_id) OVER win AS next_job_id
+      -- (Each window function is a pass of its own: a next job exists exactly when its start does, started
+      -- being a MIN that is never NULL, so two of them are enough.)
+      SELECT jr.*, LEAD(job_number) OVER win AS next_job_number, LEAD(started) OVER win AS next_started
       FROM jr WINDOW win AS (PARTITION BY serial ORDER BY started, job_id)
     ),
     repeats AS (
       SELECT * FROM seq
-      WHERE fixed = 1 AND next_job_id IS NOT NULL AND next_started - ended <= ${REPEAT_WINDOW_DAYS * DAY_MS}
+      WHERE fixed = 1 AND next_started IS NOT NULL AND next_started - ended <= ${REPEAT_WINDOW_DAYS * DAY_MS}
     )`;
 }
 
@@ -446,9 +466,11 @@ export type FixKindStats = { fixKind: string; fixes: number; firstTime: number }
  * its device does not come back within 30 days (no repeat failure on its serial number).
  */
 export async function getFirstTimeFix(db: Db, shopId: string, f: InsightsFilter): Promise<FixKindStats[]> {
-  // Findings per fix type from findings_fix (the run's filter columns are on the finding), less the fixes
-  // that powered on but whose job came back (the few repeat jobs, through their runs).
+  // Findings per fix type (the run's filter columns are on the finding), less the fixes that powered on but
+  // whose job came back (the few repeat jobs, through their runs).
   const repeatIds = (await repeatJobs(db, shopId, f)).map((r) => r.job_id);
+  // Per fix type: summed from the daily rollup for an unfiltered view, counted from findings_fix otherwise.
+  const days = rollupDays(f);
   const rows = await db.all<{ fix_kind: string; fixes: number; first_time: number }>(sql`
     WITH came_back AS (
       SELECT fd.fix_kind, COUNT(*) AS n
@@ -458,12 +480,17 @@ export async function getFirstTimeFix(db: Db, shopId: string, f: InsightsFilter)
         AND fd.fix_kind IS NOT NULL AND fd.outcome = 'powers-on'
       GROUP BY fd.fix_kind
     ),
-    per_kind AS (
-      SELECT fd.fix_kind, COUNT(*) AS fixes, SUM(fd.outcome = 'powers-on') AS powers_on
+    per_kind AS (${
+      days
+        ? sql`SELECT d.fix_kind, SUM(d.fixes) AS fixes, SUM(d.powered_on) AS powers_on
+      FROM rollup_day_fix_kinds d
+      WHERE d.shop_id = ${shopId} AND d.day >= ${days.from} AND d.day < ${days.to}
+      GROUP BY d.fix_kind HAVING SUM(d.fixes) > 0`
+        : sql`SELECT fd.fix_kind, COUNT(*) AS fixes, SUM(fd.outcome = 'powers-on') AS powers_on
       FROM findings fd
       WHERE ${findingConditions(shopId, f, { inOrder: true })} AND fd.fix_kind IS NOT NULL AND fd.outcome IS NOT NULL
-      GROUP BY fd.fix_kind
-    )
+      GROUP BY fd.fix_kind`
+    })
     SELECT k.fix_kind, k.fixes, k.powers_on - COALESCE(cb.n, 0) AS first_time
     FROM per_kind k LEFT JOIN came_back cb ON cb.fix_kind = k.fix_kind
   `);

@@ -9,6 +9,7 @@
 // same row objects libsql builds, so drizzle (and every query written for the main connection) runs unchanged.
 // A remote database (libSQL server over HTTP) already answers asynchronously: there the main client is used.
 import { createRequire } from "node:module";
+import { availableParallelism } from "node:os";
 import { Worker } from "node:worker_threads";
 import type { Client, InStatement, ResultSet, Row } from "@libsql/client";
 import { drizzle } from "drizzle-orm/libsql";
@@ -230,6 +231,23 @@ export async function closeReportThreads() {
 }
 
 /**
+ * Read threads per worker process: READ_THREADS when given (1–8), else the cores left per worker process, one or
+ * two. Two let one insights page compute two statistics side by side; but with a worker process per core the
+ * cores are already shared, and a second thread only adds contention: in the mixed load bench on two cores with
+ * two workers (docs/benchmarks.md) one thread per worker kept the readings' p95 under 50 ms where two gave 74.
+ */
+export function readThreadCount(
+  configured: string | undefined,
+  cores: number,
+  webConcurrency: string | undefined,
+): number {
+  const given = Number(configured);
+  if (configured?.trim() && Number.isInteger(given) && given >= 1) return Math.min(8, given);
+  const workers = Math.max(1, Number(webConcurrency) || 1);
+  return Math.max(1, Math.min(2, Math.floor(cores / workers)));
+}
+
+/**
  * The database handle for long read-only reports: a thread of its own for a local file, the main handle for a
  * remote server (READ_THREAD=off also keeps everything on the main connection).
  */
@@ -239,9 +257,10 @@ export function reportsDb(): Db {
   if (shutDown || !url.startsWith("file:") || url.includes(":memory:") || process.env.READ_THREAD === "off")
     return mainDb;
   if (!readDb) {
-    // READ_THREADS: how many (default 2, one per core of the machine this was measured on).
-    const size = Math.max(1, Math.min(8, Number(process.env.READ_THREADS ?? 2) || 2));
-    pool = new ThreadPoolClient(url, size);
+    pool = new ThreadPoolClient(
+      url,
+      readThreadCount(process.env.READ_THREADS, availableParallelism(), process.env.WEB_CONCURRENCY),
+    );
     readDb = drizzle(pool as unknown as Client, { schema });
     // For whoever ends this process without importing this module (the test setup, per test file).
     (globalThis as Record<symbol, unknown>)[Symbol.for("railwise.closeReportThreads")] = closeReportThreads;

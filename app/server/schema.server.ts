@@ -827,3 +827,120 @@ export const ROLLUP_BACKFILL = [
   `UPDATE jobs SET serial_jobs = CASE WHEN serial = '' THEN 1
      ELSE (SELECT COUNT(*) FROM jobs k WHERE k.shop_id = jobs.shop_id AND k.serial = jobs.serial) END`,
 ];
+
+// ---- Daily rollups of a shop's whole history (no board, version, technician or outcome filter) ----
+// Insights windows are whole UTC days, and the pages open unfiltered: those views sum a few rows per day here
+// instead of counting 100,000 runs a year (a filtered view reads the rows, a fraction of them). Each table is a
+// sum over its source rows, kept by three triggers (insert, delete, update of the columns it reads) that take
+// away the old row's share and add the new one's, so the sums stay right whatever order SQLite fires the
+// triggers in (the run columns copied onto a finding arrive by a later UPDATE of it, which they see too).
+// `day` is the UTC day number of the run's start (milliseconds ÷ 86,400,000). Keys are never NULL.
+
+/** Runs per strategy and reading count (runs.reading_count), with isolated and escalated runs. */
+export const rollupDayStrategies = sqliteTable(
+  "rollup_day_strategies",
+  {
+    shopId: text("shop_id").notNull(),
+    day: integer("day").notNull(),
+    strategy: text("strategy").notNull(),
+    readingCount: integer("reading_count").notNull(),
+    runs: integer("runs").notNull().default(0),
+    isolated: integer("isolated").notNull().default(0),
+    escalated: integer("escalated").notNull().default(0),
+  },
+  (t) => [primaryKey({ columns: [t.shopId, t.day, t.strategy, t.readingCount] })],
+);
+
+/** Fixes with a re-test outcome per fix type, and how many of them powered on. */
+export const rollupDayFixKinds = sqliteTable(
+  "rollup_day_fix_kinds",
+  {
+    shopId: text("shop_id").notNull(),
+    day: integer("day").notNull(),
+    fixKind: text("fix_kind").notNull(),
+    fixes: integer("fixes").notNull().default(0),
+    poweredOn: integer("powered_on").notNull().default(0),
+  },
+  (t) => [primaryKey({ columns: [t.shopId, t.day, t.fixKind] })],
+);
+
+type DayRollup = {
+  table: string;
+  source: "runs" | "findings";
+  keys: Record<string, (row: string) => string>;
+  values: Record<string, (row: string) => string>;
+  /** Whether a source row counts at all. */
+  when: (row: string) => string;
+  /** Source columns the keys, values and condition read: an update of any of them moves the row's share. */
+  watch: string[];
+};
+
+/**
+ * The UTC day number of a millisecond time. A default created_at is `unixepoch('subsec') * 1000`, a real
+ * number, and a real divided by an integer stays a real: truncated to whole milliseconds first, every time of a
+ * day gives that day's whole number (one rollup row), and a time just before midnight stays on its own day,
+ * as `created_at < midnight` in the row-counting query has it.
+ */
+const dayOf = (ms: string) => `(CAST(${ms} AS INTEGER) / 86400000)`;
+
+export const DAY_ROLLUPS: DayRollup[] = [
+  {
+    table: "rollup_day_strategies",
+    source: "runs",
+    keys: {
+      shop_id: (r) => `${r}.shop_id`,
+      day: (r) => dayOf(`${r}.created_at`),
+      strategy: (r) => `${r}.strategy`,
+      reading_count: (r) => `${r}.reading_count`,
+    },
+    values: {
+      runs: () => "1",
+      isolated: (r) => `(${r}.isolated_at IS NOT NULL)`,
+      escalated: (r) => `(${r}.escalated_at IS NOT NULL)`,
+    },
+    when: (r) => `${r}.created_at IS NOT NULL`,
+    watch: ["shop_id", "created_at", "strategy", "reading_count", "isolated_at", "escalated_at"],
+  },
+  {
+    table: "rollup_day_fix_kinds",
+    source: "findings",
+    keys: {
+      shop_id: (r) => `${r}.shop_id`,
+      day: (r) => dayOf(`${r}.run_started_at`),
+      fix_kind: (r) => `${r}.fix_kind`,
+    },
+    values: { fixes: () => "1", powered_on: (r) => `(${r}.outcome = 'powers-on')` },
+    when: (r) => `${r}.run_started_at IS NOT NULL AND ${r}.fix_kind IS NOT NULL AND ${r}.outcome IS NOT NULL`,
+    watch: ["shop_id", "run_started_at", "fix_kind", "outcome"],
+  },
+];
+
+/** Adds (sign 1) or takes away (sign -1) one source row's share, when the row counts. */
+function rollupShare(r: DayRollup, row: string, sign: 1 | -1) {
+  const keys = Object.keys(r.keys);
+  const values = Object.keys(r.values);
+  return `INSERT INTO ${r.table} (${[...keys, ...values].join(", ")})
+  SELECT ${[...keys.map((k) => r.keys[k](row)), ...values.map((v) => `${sign} * ${r.values[v](row)}`)].join(", ")}
+  WHERE ${r.when(row)}
+  ON CONFLICT (${keys.join(", ")}) DO UPDATE SET ${values.map((v) => `${v} = ${v} + excluded.${v}`).join(", ")};`;
+}
+
+for (const r of DAY_ROLLUPS) {
+  Object.assign(ROLLUP_TRIGGERS, {
+    [`${r.table}_insert`]: `CREATE TRIGGER ${r.table}_insert AFTER INSERT ON ${r.source}
+BEGIN ${rollupShare(r, "NEW", 1)} END`,
+    [`${r.table}_delete`]: `CREATE TRIGGER ${r.table}_delete AFTER DELETE ON ${r.source}
+BEGIN ${rollupShare(r, "OLD", -1)} END`,
+    [`${r.table}_update`]: `CREATE TRIGGER ${r.table}_update AFTER UPDATE OF ${r.watch.join(", ")} ON ${r.source}
+BEGIN ${rollupShare(r, "OLD", -1)} ${rollupShare(r, "NEW", 1)} END`,
+  });
+  const keys = Object.keys(r.keys);
+  const values = Object.keys(r.values);
+  // After the rollup columns above are recomputed (the daily sums read reading_count and the copied run_*).
+  ROLLUP_BACKFILL.push(
+    `DELETE FROM ${r.table}`,
+    `INSERT INTO ${r.table} (${[...keys, ...values].join(", ")})
+  SELECT ${[...keys.map((k) => r.keys[k]("s")), ...values.map((v) => `SUM(${r.values[v]("s")})`)].join(", ")}
+  FROM ${r.source} s WHERE ${r.when("s")} GROUP BY ${keys.map((k) => r.keys[k]("s")).join(", ")}`,
+  );
+}

@@ -1,7 +1,7 @@
 import { eq, sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { db } from "~/server/db.server";
-import { closeReportThreads, reportsDb } from "~/server/read-thread.server";
+import { closeReportThreads, readThreadCount, reportsDb } from "~/server/read-thread.server";
 import { shops } from "~/server/schema.server";
 import { createShopWithRoles } from "../support/fixtures";
 
@@ -100,5 +100,30 @@ describe.runIf(local)("shutting the read threads down", () => {
 describe.runIf(!local)("a remote libSQL server", () => {
   it("serves reports on the main connection", () => {
     expect(reportsDb()).toBe(db);
+  });
+});
+
+describe("how many read threads a worker process starts", () => {
+  it("takes READ_THREADS when it is a whole number from 1, at most 8", () => {
+    expect(readThreadCount("1", 2, "1")).toBe(1);
+    expect(readThreadCount("3", 2, "2")).toBe(3);
+    expect(readThreadCount("20", 64, "1")).toBe(8);
+  });
+
+  it("ignores a READ_THREADS that is not a whole number from 1, and uses the default", () => {
+    for (const bad of ["", " ", "0", "-2", "1.5", "two"]) expect(readThreadCount(bad, 2, "1")).toBe(2);
+  });
+
+  it("defaults to the cores left per worker process, one or two", () => {
+    // One process on two cores: a page's statistics compute side by side.
+    expect(readThreadCount(undefined, 2, undefined)).toBe(2);
+    // A process per core: a second thread would only contend (docs/benchmarks.md).
+    expect(readThreadCount(undefined, 2, "2")).toBe(1);
+    expect(readThreadCount(undefined, 8, "8")).toBe(1);
+    // More processes than cores, or one core: still one.
+    expect(readThreadCount(undefined, 2, "3")).toBe(1);
+    expect(readThreadCount(undefined, 1, undefined)).toBe(1);
+    expect(readThreadCount(undefined, 16, "4")).toBe(2);
+    expect(readThreadCount(undefined, 2, "not a number")).toBe(2);
   });
 });
