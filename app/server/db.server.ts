@@ -46,16 +46,26 @@ async function prepare(client: ReturnType<typeof createClient>, db: Db) {
     // sets the same on its own connection (read-thread.server.ts).
     for (const pragma of READ_PRAGMAS) await client.execute(pragma);
   }
+  // (Counted only when the table exists: SQLite compiles a query on a missing table as an error.)
+  const applied = async () => {
+    const made = await client.execute("SELECT 1 FROM sqlite_master WHERE name = '__drizzle_migrations'");
+    if (!made.rows.length) return 0;
+    return Number((await client.execute("SELECT COUNT(*) AS n FROM __drizzle_migrations")).rows[0].n);
+  };
+  const before = await applied();
   await migrate(db, { migrationsFolder: migrationsFolder() });
-  await installRollupTriggers(client);
+  await installRollupTriggers(client, (await applied()) !== before);
 }
 
-/** Creates the insights rollup triggers that are missing or changed, and then recomputes the rollups. */
-async function installRollupTriggers(client: ReturnType<typeof createClient>) {
+/**
+ * Creates the insights rollup triggers that are missing or changed, and then recomputes the rollups; also
+ * recomputes them after a migration, which may have added or rebuilt a rollup table the triggers fill.
+ */
+export async function installRollupTriggers(client: ReturnType<typeof createClient>, migrated: boolean) {
   const have = await client.execute("SELECT name, sql FROM sqlite_master WHERE type = 'trigger'");
   const current = new Map(have.rows.map((r) => [String(r.name), String(r.sql)]));
   const stale = Object.entries(ROLLUP_TRIGGERS).filter(([name, ddl]) => current.get(name) !== ddl);
-  if (!stale.length) return;
+  if (!stale.length && !migrated) return;
   await client.batch(
     [...stale.flatMap(([name, ddl]) => [`DROP TRIGGER IF EXISTS ${name}`, ddl]), ...ROLLUP_BACKFILL],
     "write",

@@ -130,6 +130,8 @@ export type HotSpot = {
  * the node (map_version_nodes), with the 95 % Wilson interval, ranked by its lower bound.
  */
 export async function getHotSpots(db: Db, shopId: string, f: InsightsFilter): Promise<HotSpot[]> {
+  // Ended runs per version and failures per node: summed from the daily rollups for an unfiltered view.
+  const days = rollupDays(f);
   const rows = await db.all<{
     board_id: string;
     node_id: string;
@@ -140,11 +142,16 @@ export async function getHotSpots(db: Db, shopId: string, f: InsightsFilter): Pr
     failures: number;
     board_label: string;
   }>(sql`
-    WITH rv AS (
-      SELECT r.board_id, r.map_version_id, COUNT(*) AS runs
+    WITH rv AS (${
+      days
+        ? sql`SELECT d.board_id, d.map_version_id, SUM(d.ended) AS runs
+      FROM rollup_day_version_runs d
+      WHERE d.shop_id = ${shopId} AND +d.day >= ${days.from} AND +d.day < ${days.to}
+      GROUP BY d.board_id, d.map_version_id HAVING SUM(d.ended) > 0`
+        : sql`SELECT r.board_id, r.map_version_id, COUNT(*) AS runs
       FROM runs r WHERE ${runConditions(shopId, f, { endedOnly: true, inOrder: true, byBoard: true })}
-      GROUP BY r.board_id, r.map_version_id
-    ),
+      GROUP BY r.board_id, r.map_version_id`
+    }),
     denom AS (
       SELECT rv.board_id, n.node_id, MAX(n.node_name) AS node_name, MAX(n.kind) AS kind,
              MAX(n.refdes) AS refdes, SUM(rv.runs) AS runs
@@ -152,15 +159,22 @@ export async function getHotSpots(db: Db, shopId: string, f: InsightsFilter): Pr
       WHERE n.kind <> 'source'
       GROUP BY rv.board_id, n.node_id
     ),
-    fails AS (
+    fails AS (${
+      days
+        ? sql`SELECT d.board_id, d.node_id, SUM(d.n) AS failures
+      -- (Day is the key's last column, "+" keeps it a check: the rows come in board and node order.)
+      FROM rollup_day_node_fails d
+      WHERE d.shop_id = ${shopId} AND +d.day >= ${days.from} AND +d.day < ${days.to}
+      GROUP BY d.board_id, d.node_id HAVING SUM(d.n) > 0`
+        : sql`
       -- findings_hot: in (board, node) order, so no join per run and no sort.
       -- Runs, not findings: node_first (kept by trigger) marks a run's first finding on the node.
       SELECT fd.run_board_id AS board_id, fd.node_id, COUNT(*) AS failures
       FROM findings fd
       WHERE ${findingConditions(shopId, f, { endedOnly: true, inOrder: true, byBoard: true })}
         AND fd.node_id IS NOT NULL AND fd.kind IN ('part', 'short') AND fd.node_first = 1
-      GROUP BY fd.run_board_id, fd.node_id
-    )
+      GROUP BY fd.run_board_id, fd.node_id`
+    })
     SELECT d.board_id, d.node_id, d.node_name, d.kind, d.refdes, d.runs,
            COALESCE(fl.failures, 0) AS failures,
            b.board_number || CASE WHEN b.revision <> '' THEN ' rev ' || b.revision ELSE '' END AS board_label
@@ -545,12 +559,21 @@ export async function getPartsUsage(
 ): Promise<PartsUsage> {
   // findings_parts_by_version walks the findings in (parts list, month, map version) order, so they are counted
   // per group with no sort and no JSON per finding: one parsed list per group, a few thousand groups a year.
-  const groups = await db.all<{ month: string; pu: string; v: string; n: number }>(sql`
+  // An unfiltered view sums the daily rollup instead, kept in the same order (schema.server.ts).
+  const days = rollupDays(f);
+  const groups = await db.all<{ month: string; pu: string; v: string; n: number }>(
+    days
+      ? sql`
+    SELECT d.created_month AS month, d.parts_used AS pu, d.map_version_id AS v, SUM(d.n) AS n
+    FROM rollup_day_parts d
+    WHERE d.shop_id = ${shopId} AND +d.day >= ${days.from} AND +d.day < ${days.to}
+    GROUP BY d.parts_used, d.created_month, d.map_version_id HAVING SUM(d.n) > 0`
+      : sql`
     SELECT fd.created_month AS month, fd.parts_used AS pu, fd.run_version_id AS v, COUNT(*) AS n
     FROM findings fd
     WHERE ${findingConditions(shopId, f, { inOrder: true })} AND fd.parts_used IS NOT NULL
-    GROUP BY fd.parts_used, fd.created_month, fd.run_version_id
-  `);
+    GROUP BY fd.parts_used, fd.created_month, fd.run_version_id`,
+  );
   // Quantity per month, map version and reference designator.
   const qty = new Map<string, { month: string; versionId: string; refdes: string; n: number }>();
   let listText = "";

@@ -834,7 +834,9 @@ export const ROLLUP_BACKFILL = [
 // sum over its source rows, kept by three triggers (insert, delete, update of the columns it reads) that take
 // away the old row's share and add the new one's, so the sums stay right whatever order SQLite fires the
 // triggers in (the run columns copied onto a finding arrive by a later UPDATE of it, which they see too).
-// `day` is the UTC day number of the run's start (milliseconds ÷ 86,400,000). Keys are never NULL.
+// `day` is the UTC day number of the run's start (milliseconds ÷ 86,400,000). Keys are never NULL. The tables
+// are WITHOUT ROWID (set in drizzle/0004, which drizzle's table builder cannot say): a window's sums then read
+// the primary key's own b-tree, with no row lookup per day and key.
 
 /** Runs per strategy and reading count (runs.reading_count), with isolated and escalated runs. */
 export const rollupDayStrategies = sqliteTable(
@@ -862,6 +864,49 @@ export const rollupDayFixKinds = sqliteTable(
     poweredOn: integer("powered_on").notNull().default(0),
   },
   (t) => [primaryKey({ columns: [t.shopId, t.day, t.fixKind] })],
+);
+
+/** Ended runs per board and map version (the hot spots' denominators). */
+export const rollupDayVersionRuns = sqliteTable(
+  "rollup_day_version_runs",
+  {
+    shopId: text("shop_id").notNull(),
+    day: integer("day").notNull(),
+    boardId: text("board_id").notNull(),
+    mapVersionId: text("map_version_id").notNull(),
+    ended: integer("ended").notNull().default(0),
+  },
+  // Day last: a window's sums come out grouped by board and version in key order, with no sort.
+  (t) => [primaryKey({ columns: [t.shopId, t.boardId, t.mapVersionId, t.day] })],
+);
+
+/** Ended runs whose first part or short finding on a node was that node (the hot spots' failures). */
+export const rollupDayNodeFails = sqliteTable(
+  "rollup_day_node_fails",
+  {
+    shopId: text("shop_id").notNull(),
+    day: integer("day").notNull(),
+    boardId: text("board_id").notNull(),
+    nodeId: text("node_id").notNull(),
+    n: integer("n").notNull().default(0),
+  },
+  // Day last, as above: sorting 40,000 day rows by node cost more than the rollup saved.
+  (t) => [primaryKey({ columns: [t.shopId, t.boardId, t.nodeId, t.day] })],
+);
+
+/** Findings with a parts list, per list, month the finding was recorded and map version (parts to stock). */
+export const rollupDayParts = sqliteTable(
+  "rollup_day_parts",
+  {
+    shopId: text("shop_id").notNull(),
+    partsUsed: text("parts_used").notNull(),
+    createdMonth: text("created_month").notNull(),
+    mapVersionId: text("map_version_id").notNull(),
+    day: integer("day").notNull(),
+    n: integer("n").notNull().default(0),
+  },
+  // The parts page's grouping order first, day last (as above).
+  (t) => [primaryKey({ columns: [t.shopId, t.partsUsed, t.createdMonth, t.mapVersionId, t.day] })],
 );
 
 type DayRollup = {
@@ -912,6 +957,50 @@ export const DAY_ROLLUPS: DayRollup[] = [
     values: { fixes: () => "1", powered_on: (r) => `(${r}.outcome = 'powers-on')` },
     when: (r) => `${r}.run_started_at IS NOT NULL AND ${r}.fix_kind IS NOT NULL AND ${r}.outcome IS NOT NULL`,
     watch: ["shop_id", "run_started_at", "fix_kind", "outcome"],
+  },
+  {
+    table: "rollup_day_version_runs",
+    source: "runs",
+    keys: {
+      shop_id: (r) => `${r}.shop_id`,
+      day: (r) => dayOf(`${r}.created_at`),
+      board_id: (r) => `${r}.board_id`,
+      map_version_id: (r) => `${r}.map_version_id`,
+    },
+    values: { ended: () => "1" },
+    when: (r) => `${r}.created_at IS NOT NULL AND ${r}.status <> 'open'`,
+    watch: ["shop_id", "created_at", "board_id", "map_version_id", "status"],
+  },
+  {
+    table: "rollup_day_node_fails",
+    source: "findings",
+    keys: {
+      shop_id: (r) => `${r}.shop_id`,
+      day: (r) => dayOf(`${r}.run_started_at`),
+      board_id: (r) => `${r}.run_board_id`,
+      node_id: (r) => `${r}.node_id`,
+    },
+    values: { n: () => "1" },
+    when: (r) =>
+      `${r}.run_started_at IS NOT NULL AND ${r}.run_board_id IS NOT NULL AND ${r}.node_id IS NOT NULL
+    AND ${r}.kind IN ('part', 'short') AND ${r}.node_first = 1 AND ${r}.run_status <> 'open'`,
+    watch: ["shop_id", "run_started_at", "run_board_id", "node_id", "kind", "node_first", "run_status"],
+  },
+  {
+    table: "rollup_day_parts",
+    source: "findings",
+    keys: {
+      shop_id: (r) => `${r}.shop_id`,
+      parts_used: (r) => `${r}.parts_used`,
+      created_month: (r) => `${r}.created_month`,
+      map_version_id: (r) => `${r}.run_version_id`,
+      day: (r) => dayOf(`${r}.run_started_at`),
+    },
+    values: { n: () => "1" },
+    when: (r) =>
+      `${r}.run_started_at IS NOT NULL AND ${r}.parts_used IS NOT NULL AND ${r}.created_month IS NOT NULL
+    AND ${r}.run_version_id IS NOT NULL`,
+    watch: ["shop_id", "run_started_at", "parts_used", "created_month", "run_version_id"],
   },
 ];
 

@@ -1,8 +1,14 @@
 import { and, eq, sql } from "drizzle-orm";
 import { afterEach, beforeAll, describe, expect, it } from "vitest";
 import { parseInsightsFilter } from "~/lib/insights-filters";
-import { db } from "~/server/db.server";
-import { getEscalations, getFirstTimeFix, getStrategyStats } from "~/server/insights.server";
+import { client, db, installRollupTriggers } from "~/server/db.server";
+import {
+  getEscalations,
+  getFirstTimeFix,
+  getHotSpots,
+  getPartsUsage,
+  getStrategyStats,
+} from "~/server/insights.server";
 import { DAY_ROLLUPS, findings, ROLLUP_BACKFILL, readings, runs } from "~/server/schema.server";
 import { seedDemo } from "../../seed/demo.server";
 
@@ -26,13 +32,15 @@ async function rollupRows() {
   return out;
 }
 
-/** The runs page's statistics through the rollups and from the rows only. */
+/** The hot spots, the runs page's statistics and the parts through the rollups and from the rows only. */
 async function bothWays(query: string, now: number) {
   const f = parseInsightsFilter(new URLSearchParams(query), now).filter;
   const all = async () => ({
+    hot: await getHotSpots(db, SHOP, f),
     strategies: await getStrategyStats(db, SHOP, f),
     escalations: await getEscalations(db, SHOP, f),
     firstTime: await getFirstTimeFix(db, SHOP, f),
+    parts: await getPartsUsage(db, SHOP, f, now),
   });
   const rolled = await all();
   process.env.INSIGHTS_ROLLUPS = "off";
@@ -51,6 +59,8 @@ async function expectSameFiguresBothWays() {
     // Not empty: the comparison is about real figures.
     expect(rolled.strategies.find((s) => s.strategy === "all")!.runs).toBeGreaterThan(q ? 5 : 50);
     expect(rolled.firstTime.length).toBeGreaterThan(0);
+    expect(rolled.hot.filter((h) => h.failures > 0).length).toBeGreaterThan(q ? 2 : 10);
+    expect(rolled.parts.parts.length).toBeGreaterThan(q ? 0 : 5);
   }
 }
 
@@ -74,12 +84,13 @@ describe("daily insights rollups", () => {
       .from(runs)
       .where(eq(runs.shopId, SHOP))
       .orderBy(runs.id)
-      .limit(10)
+      .limit(12)
       .all();
-    expect(some.length).toBe(10);
+    expect(some.length).toBe(12);
     const before = await rollupRows();
     // Updates of every watched kind: isolation undone, escalation, a move to another day, a reading skipped (the
-    // run's reading count changes), a strategy change, a finding's fix and re-test outcome, deletes.
+    // run's reading count changes), a strategy change, a finding's fix and re-test outcome, its node and kind,
+    // a move to another board, deletes.
     await db.update(runs).set({ status: "open", isolatedAt: null }).where(eq(runs.id, some[0].id));
     await db.update(runs).set({ escalatedAt: new Date() }).where(eq(runs.id, some[1].id));
     await db
@@ -92,11 +103,23 @@ describe("daily insights rollups", () => {
     await db.update(runs).set({ strategy: "order" }).where(eq(runs.id, some[4].id));
     await db
       .update(findings)
-      .set({ fixKind: "reflow", outcome: "powers-on" })
+      .set({ fixKind: "reflow", outcome: "powers-on", partsUsed: ["U9", "C12"] })
       .where(eq(findings.runId, some[5].id));
     await db.delete(findings).where(eq(findings.runId, some[6].id));
     await db.delete(readings).where(eq(readings.runId, some[7].id));
     await db.delete(runs).where(and(eq(runs.id, some[8].id), eq(runs.shopId, SHOP)));
+    await db.update(runs).set({ boardId: "demo-board-om5130" }).where(eq(runs.id, some[10].id));
+    await db
+      .update(findings)
+      .set({ nodeId: "moved-node", kind: "short" })
+      .where(eq(findings.runId, some[11].id));
+    // A run whose finding counts as a hot spot's failure is reopened: the failure no longer counts.
+    const failed = await db.get<{ run_id: string }>(
+      sql`SELECT fd.run_id FROM findings fd WHERE fd.shop_id = ${SHOP} AND fd.kind IN ('part', 'short')
+          AND fd.node_first = 1 AND fd.run_status <> 'open' ORDER BY fd.run_id DESC LIMIT 1`,
+    );
+    expect(failed).toBeTruthy();
+    await db.update(runs).set({ status: "open", isolatedAt: null }).where(eq(runs.id, failed!.run_id));
     // A fix type only one finding ever had, changed again: its rollup row is left at zero fixes.
     await db
       .update(findings)
@@ -144,5 +167,16 @@ describe("daily insights rollups", () => {
     const f = (q: string) => parseInsightsFilter(new URLSearchParams(q), now).filter;
     expect(await getStrategyStats(db, SHOP, f(""))).not.toEqual(whole.raw.strategies);
     expect(await getStrategyStats(db, SHOP, f("board=demo-board-om5150"))).toEqual(board.raw.strategies);
+  });
+
+  it("are recounted when the server starts after a migration (which may have rebuilt a rollup table)", async () => {
+    const counted = await rollupRows();
+    expect(counted.rollup_day_node_fails.length).toBeGreaterThan(0);
+    // As a migration that rebuilt the table would leave it: empty, its triggers unchanged.
+    await db.run(sql`DELETE FROM rollup_day_node_fails`);
+    await installRollupTriggers(client, false);
+    expect((await rollupRows()).rollup_day_node_fails).toEqual([]);
+    await installRollupTriggers(client, true);
+    expect((await rollupRows()).rollup_day_node_fails).toEqual(counted.rollup_day_node_fails);
   });
 });
