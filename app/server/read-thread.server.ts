@@ -9,7 +9,6 @@
 // same row objects libsql builds, so drizzle (and every query written for the main connection) runs unchanged.
 // A remote database (libSQL server over HTTP) already answers asynchronously: there the main client is used.
 import { createRequire } from "node:module";
-import { availableParallelism } from "node:os";
 import { Worker } from "node:worker_threads";
 import type { Client, InStatement, ResultSet, Row } from "@libsql/client";
 import { drizzle } from "drizzle-orm/libsql";
@@ -231,20 +230,17 @@ export async function closeReportThreads() {
 }
 
 /**
- * Read threads per worker process: READ_THREADS when given (1–8), else the cores left per worker process, one or
- * two. Two let one insights page compute two statistics side by side; but with a worker process per core the
- * cores are already shared, and a second thread only adds contention: in the mixed load bench on two cores with
- * two workers (docs/benchmarks.md) one thread per worker kept the readings' p95 under 50 ms where two gave 74.
+ * Read threads per worker process: READ_THREADS when it is a whole number from 1 (at most 8), else 2, so one
+ * insights page computes two statistics side by side. Measured in the mixed load bench on two cores with two
+ * workers (docs/benchmarks.md): with the daily rollups, two threads a worker gave insights p95 162–173 ms and
+ * one 199–212 ms, readings no worse; before the rollups, when insights took twice the CPU, one thread had
+ * kept the readings' p95 lower (47 against 74 ms): READ_THREADS=1 is the setting for a machine that insights
+ * saturate.
  */
-export function readThreadCount(
-  configured: string | undefined,
-  cores: number,
-  webConcurrency: string | undefined,
-): number {
+export function readThreadCount(configured: string | undefined): number {
   const given = Number(configured);
   if (configured?.trim() && Number.isInteger(given) && given >= 1) return Math.min(8, given);
-  const workers = Math.max(1, Number(webConcurrency) || 1);
-  return Math.max(1, Math.min(2, Math.floor(cores / workers)));
+  return 2;
 }
 
 /**
@@ -257,10 +253,7 @@ export function reportsDb(): Db {
   if (shutDown || !url.startsWith("file:") || url.includes(":memory:") || process.env.READ_THREAD === "off")
     return mainDb;
   if (!readDb) {
-    pool = new ThreadPoolClient(
-      url,
-      readThreadCount(process.env.READ_THREADS, availableParallelism(), process.env.WEB_CONCURRENCY),
-    );
+    pool = new ThreadPoolClient(url, readThreadCount(process.env.READ_THREADS));
     readDb = drizzle(pool as unknown as Client, { schema });
     // For whoever ends this process without importing this module (the test setup, per test file).
     (globalThis as Record<symbol, unknown>)[Symbol.for("railwise.closeReportThreads")] = closeReportThreads;
