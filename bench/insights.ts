@@ -1,5 +1,6 @@
 // `npm run bench:insights`: every insights loader's queries at 100,000 runs / 1,000,000 readings, first with
-// the schema's indexes, then with those indexes dropped (same data, same run), then the indexes are rebuilt.
+// the schema's indexes and daily rollups, then with those indexes dropped and the rollups not read (same data,
+// same run), then the indexes are rebuilt.
 // Without indexes some loaders take minutes, so each naive loader runs in a child process capped at
 // NAIVE_CAP_MS; a capped figure is a lower bound (printed with ">") and so is any ratio built from it.
 // Last line: RESULT insights_max_ms=<slowest indexed loader, median ms> naive_ratio=<Σ naive ÷ Σ indexed>
@@ -114,8 +115,9 @@ const naive: Record<string, { ms: number; capped: boolean }> = {};
 try {
   for (const name of Object.keys(LOADERS)) {
     const child = spawnSync(process.execPath, [...process.execArgv, process.argv[1], "--one", name], {
-      // Never pass BENCH_RESEED on: the child must time the same file, not rebuild it.
-      env: { ...process.env, BENCH_RESEED: "0" },
+      // Never pass BENCH_RESEED on: the child must time the same file, not rebuild it. Naive means the rows
+      // alone: no index and no daily rollup either.
+      env: { ...process.env, BENCH_RESEED: "0", INSIGHTS_ROLLUPS: "off" },
       timeout: NAIVE_CAP_MS + 5_000,
       encoding: "utf8",
     });

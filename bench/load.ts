@@ -145,6 +145,17 @@ function startServer(): ChildProcess {
   });
 }
 
+/**
+ * The machine's CPU time so far, from /proc/stat: all of it and what the hypervisor gave to other guests
+ * ("steal"). This is a shared virtual machine whose speed varies from minute to minute; a soak that lost a
+ * few percent of its two cores to steal measures the neighbours as much as the server.
+ */
+function machineCpu(): { total: number; steal: number } {
+  const cpu = readFileSync("/proc/stat", "utf8").split("\n")[0].trim().split(/\s+/).slice(1).map(Number);
+  // user nice system idle iowait irq softirq steal (guest time is already inside user and nice).
+  return { total: cpu.slice(0, 8).reduce((a, b) => a + b, 0), steal: cpu[7] ?? 0 };
+}
+
 async function waitForHealth(timeoutMs = 30_000) {
   const start = Date.now();
   while (Date.now() - start < timeoutMs) {
@@ -553,6 +564,7 @@ async function main() {
     log(
       `offered ${RATE} requests/s from ${CONNECTIONS} connections for ${SOAK_S} s; server RSS ${rssStart.toFixed(1)} MB`,
     );
+    const cpuStart = machineCpu();
     measuring = true;
     done = 0;
     const started = performance.now();
@@ -596,6 +608,9 @@ async function main() {
     log(
       `server RSS: start ${rssStart.toFixed(1)} MB, end ${rssEnd.toFixed(1)} MB; anonymous (heap and native, the growth figure): start ${anonStart.toFixed(1)} MB, end ${anonEnd.toFixed(1)} MB`,
     );
+    const cpuEnd = machineCpu();
+    const steal = (100 * (cpuEnd.steal - cpuStart.steal)) / Math.max(1, cpuEnd.total - cpuStart.total);
+    log(`machine: ${steal.toFixed(1)} % of the CPU time over the soak was taken by the hypervisor (steal)`);
     if (HEAP) {
       const heapEnd = await liveHeapMb(server.pid!);
       log(

@@ -1,7 +1,12 @@
 import { eq, sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { db } from "~/server/db.server";
-import { closeReportThreads, readThreadCount, reportsDb } from "~/server/read-thread.server";
+import {
+  closeReportThreads,
+  readThreadCount,
+  readThreadHeapMb,
+  reportsDb,
+} from "~/server/read-thread.server";
 import { shops } from "~/server/schema.server";
 import { createShopWithRoles } from "../support/fixtures";
 
@@ -112,5 +117,14 @@ describe("how many read threads a worker process starts", () => {
 
   it("otherwise two, whatever else READ_THREADS holds", () => {
     for (const other of [undefined, "", " ", "0", "-2", "1.5", "two"]) expect(readThreadCount(other)).toBe(2);
+  });
+});
+
+describe("the heap limit of a read thread", () => {
+  it("takes READ_THREAD_HEAP_MB when it is a whole number of megabytes from 16, else 64", () => {
+    expect(readThreadHeapMb("128")).toBe(128);
+    expect(readThreadHeapMb("16")).toBe(16);
+    for (const other of [undefined, "", "0", "8", "-64", "64.5", "lots"])
+      expect(readThreadHeapMb(other)).toBe(64);
   });
 });
