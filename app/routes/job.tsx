@@ -250,8 +250,17 @@ export async function action({ request, params }: Route.ActionArgs) {
     const parsed = AssignSchema.safeParse(form);
     if (!parsed.success) return fail(intent, "Choose a technician.");
     const target = parsed.data.userId;
-    // The desk, leads and owners hand jobs out; a technician may only take a job themselves.
-    if (!can(role, "edit:jobs") && target !== user.id) return refuseRole();
+    // The desk, leads and owners hand jobs out; a technician may only take a job nobody has yet. Taking one
+    // from another technician would also open its device passcode to them (shown to the assigned one only).
+    if (!can(role, "edit:jobs")) {
+      if (target !== user.id) return refuseRole();
+      if (job.assignedTo && job.assignedTo !== user.id)
+        return fail(
+          intent,
+          "This job is already assigned to another technician. Ask a lead or the desk to hand it over.",
+          409,
+        );
+    }
     if (target) {
       const member = await db
         .select({ role: members.role })
@@ -695,10 +704,12 @@ function DeviceCard({ d }: { d: D }) {
             <button type="submit" className="btn px-3 py-1">
               Assign
             </button>
-          ) : job.assignedTo !== d.me ? (
+          ) : !job.assignedTo ? (
             <button type="submit" className="btn px-3 py-1">
               Take this job
             </button>
+          ) : job.assignedTo !== d.me ? (
+            <p className="text-sm text-muted">A lead or the desk can hand it over.</p>
           ) : null}
         </Form>
         {job.hasPasscode ? (

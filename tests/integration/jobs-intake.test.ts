@@ -111,6 +111,41 @@ describe("intake", () => {
     expect((await intake(shop, {}, "owner")).status).toBe(302);
   });
 
+  it("lets a technician take a job nobody has, not one assigned to someone else (nor its passcode)", async () => {
+    const shop = await createShopWithRoles();
+    const assign = (job: string, userId: string, role: keyof Shop["cookies"]) =>
+      call(jobRoute.action, {
+        request: formRequest(`/jobs/${job}`, { intent: "assign", userId }, shop.cookies[role]),
+        params: { jobId: job },
+      });
+    const free = await newJob(shop, {});
+    expect((await assign(free.id, shop.userIds.tech, "tech")).status).toBe(302);
+    expect((await db.select().from(jobs).where(eq(jobs.id, free.id)).get())!.assignedTo).toBe(
+      shop.userIds.tech,
+    );
+    // Taking one's own job again changes nothing and is allowed.
+    expect((await assign(free.id, shop.userIds.tech, "tech")).status).toBe(302);
+
+    const held = await newJob(shop, { passcode: "1357" });
+    expect((await assign(held.id, shop.userIds.lead, "desk")).status).toBe(302);
+    const refused = await assign(held.id, shop.userIds.tech, "tech");
+    expect(refused.status).toBe(409);
+    expect(JSON.stringify(refused.data)).toContain("already assigned to another technician");
+    expect((await db.select().from(jobs).where(eq(jobs.id, held.id)).get())!.assignedTo).toBe(
+      shop.userIds.lead,
+    );
+    const reveal = await call(jobRoute.action, {
+      request: formRequest(`/jobs/${held.id}`, { intent: "reveal-passcode" }, shop.cookies.tech),
+      params: { jobId: held.id },
+    });
+    expect(reveal.status).toBe(403);
+    // A lead or the desk hands it over.
+    expect((await assign(held.id, shop.userIds.tech, "lead")).status).toBe(302);
+    expect((await db.select().from(jobs).where(eq(jobs.id, held.id)).get())!.assignedTo).toBe(
+      shop.userIds.tech,
+    );
+  });
+
   it("seals the passcode, shows it to the assigned tech only, and erases it at closing", async () => {
     const shop = await createShopWithRoles();
     const job = await newJob(shop, { passcode: "2468-secret" });
