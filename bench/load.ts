@@ -147,8 +147,8 @@ function startServer(): ChildProcess {
 
 /**
  * The machine's CPU time so far, from /proc/stat: all of it and what the hypervisor gave to other guests
- * ("steal"). This is a shared virtual machine whose speed varies from minute to minute; a soak that lost a
- * few percent of its two cores to steal measures the neighbours as much as the server.
+ * ("steal"). This is a shared virtual machine whose speed varies from minute to minute; steal shows only part
+ * of it (on 2026-12-03 the machine ran at half speed for an hour with steal under 1 %: docs/benchmarks.md).
  */
 function machineCpu(): { total: number; steal: number } {
   const cpu = readFileSync("/proc/stat", "utf8").split("\n")[0].trim().split(/\s+/).slice(1).map(Number);

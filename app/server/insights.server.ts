@@ -98,11 +98,22 @@ function shared<T>(
  * triggers in schema.server.ts): no board, version, technician or outcome filter, and whole days, which the
  * filter form always gives. INSIGHTS_ROLLUPS=off reads the rows instead (the tests compare the two).
  */
-function rollupDays(f: InsightsFilter): { from: number; to: number } | null {
+function rollupDays(f: InsightsFilter): Days | null {
   if (f.boardId || f.versionId || f.techId || f.outcome || process.env.INSIGHTS_ROLLUPS === "off")
     return null;
   if (f.fromMs % DAY_MS !== 0 || f.toMs % DAY_MS !== 0) return null;
   return { from: f.fromMs / DAY_MS, to: f.toMs / DAY_MS };
+}
+
+type Days = { from: number; to: number };
+
+/**
+ * A rollup's rows of the shop in the window (`d`). Where the day ends the key (the tables summed in key order)
+ * "+" keeps it a check on the rows read in that order; where it follows the shop, a range of the key.
+ */
+function rollupRowsIn(shopId: string, days: Days, dayLast: boolean): SQL {
+  const day = sql.raw(dayLast ? "+d.day" : "d.day");
+  return sql`d.shop_id = ${shopId} AND ${day} >= ${days.from} AND ${day} < ${days.to}`;
 }
 
 function wilson(k: number, n: number): FailureRate {
@@ -146,7 +157,7 @@ export async function getHotSpots(db: Db, shopId: string, f: InsightsFilter): Pr
       days
         ? sql`SELECT d.board_id, d.map_version_id, SUM(d.ended) AS runs
       FROM rollup_day_version_runs d
-      WHERE d.shop_id = ${shopId} AND +d.day >= ${days.from} AND +d.day < ${days.to}
+      WHERE ${rollupRowsIn(shopId, days, true)}
       GROUP BY d.board_id, d.map_version_id HAVING SUM(d.ended) > 0`
         : sql`SELECT r.board_id, r.map_version_id, COUNT(*) AS runs
       FROM runs r WHERE ${runConditions(shopId, f, { endedOnly: true, inOrder: true, byBoard: true })}
@@ -162,9 +173,8 @@ export async function getHotSpots(db: Db, shopId: string, f: InsightsFilter): Pr
     fails AS (${
       days
         ? sql`SELECT d.board_id, d.node_id, SUM(d.n) AS failures
-      -- (Day is the key's last column, "+" keeps it a check: the rows come in board and node order.)
       FROM rollup_day_node_fails d
-      WHERE d.shop_id = ${shopId} AND +d.day >= ${days.from} AND +d.day < ${days.to}
+      WHERE ${rollupRowsIn(shopId, days, true)}
       GROUP BY d.board_id, d.node_id HAVING SUM(d.n) > 0`
         : sql`
       -- findings_hot: in (board, node) order, so no join per run and no sort.
@@ -246,7 +256,7 @@ function strategySummary(db: Db, shopId: string, f: InsightsFilter): Promise<Str
     ? sql`SELECT d.strategy, d.reading_count AS rc, SUM(d.runs) AS runs, SUM(d.isolated) AS isolated,
                SUM(d.escalated) AS escalated
         FROM rollup_day_strategies d
-        WHERE d.shop_id = ${shopId} AND d.day >= ${days.from} AND d.day < ${days.to}
+        WHERE ${rollupRowsIn(shopId, days, false)}
         GROUP BY d.strategy, d.reading_count HAVING SUM(d.runs) > 0`
     : sql`SELECT r.strategy, r.reading_count AS rc, COUNT(*) AS runs, COUNT(r.isolated_at) AS isolated,
                COUNT(r.escalated_at) AS escalated
@@ -498,7 +508,7 @@ export async function getFirstTimeFix(db: Db, shopId: string, f: InsightsFilter)
       days
         ? sql`SELECT d.fix_kind, SUM(d.fixes) AS fixes, SUM(d.powered_on) AS powers_on
       FROM rollup_day_fix_kinds d
-      WHERE d.shop_id = ${shopId} AND d.day >= ${days.from} AND d.day < ${days.to}
+      WHERE ${rollupRowsIn(shopId, days, false)}
       GROUP BY d.fix_kind HAVING SUM(d.fixes) > 0`
         : sql`SELECT fd.fix_kind, COUNT(*) AS fixes, SUM(fd.outcome = 'powers-on') AS powers_on
       FROM findings fd
@@ -566,7 +576,7 @@ export async function getPartsUsage(
       ? sql`
     SELECT d.created_month AS month, d.parts_used AS pu, d.map_version_id AS v, SUM(d.n) AS n
     FROM rollup_day_parts d
-    WHERE d.shop_id = ${shopId} AND +d.day >= ${days.from} AND +d.day < ${days.to}
+    WHERE ${rollupRowsIn(shopId, days, true)}
     GROUP BY d.parts_used, d.created_month, d.map_version_id HAVING SUM(d.n) > 0`
       : sql`
     SELECT fd.created_month AS month, fd.parts_used AS pu, fd.run_version_id AS v, COUNT(*) AS n

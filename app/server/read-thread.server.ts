@@ -239,9 +239,13 @@ export async function closeReportThreads() {
  * saturate.
  */
 export function readThreadCount(configured: string | undefined): number {
+  return Math.min(8, wholeNumberFrom(configured, 1, 2));
+}
+
+/** A setting that must be a whole number of at least `min`; anything else (unset, blank, text) is `fallback`. */
+function wholeNumberFrom(configured: string | undefined, min: number, fallback: number): number {
   const given = Number(configured);
-  if (configured?.trim() && Number.isInteger(given) && given >= 1) return Math.min(8, given);
-  return 2;
+  return configured?.trim() && Number.isInteger(given) && given >= min ? given : fallback;
 }
 
 /**
@@ -251,9 +255,7 @@ export function readThreadCount(configured: string | undefined): number {
  * the limit before it collects: three such heaps per process, where one holds the live objects.
  */
 export function readThreadHeapMb(configured: string | undefined): number {
-  const given = Number(configured);
-  if (configured?.trim() && Number.isInteger(given) && given >= 16) return given;
-  return 64;
+  return wholeNumberFrom(configured, 16, 64);
 }
 
 /**
