@@ -344,7 +344,8 @@ export type EscalationStats = { runs: number; escalated: number; spots: Escalati
  * taken before the run was escalated ("before the first reading" when there was none).
  */
 export async function getEscalations(db: Db, shopId: string, f: InsightsFilter): Promise<EscalationStats> {
-  const w = runConditions(shopId, f);
+  // Walked in runs_escalated order (board, version, net): the groups come out without a sort.
+  const w = runConditions(shopId, f, { inOrder: true, byBoard: true });
   // Runs and escalated runs in the filter: the "all" row of the strategy summary (shared with the strategies
   // table when both are asked for together).
   const totals = (await strategySummary(db, shopId, f)).find((r) => r.strategy === "all");

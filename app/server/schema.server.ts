@@ -338,9 +338,20 @@ export const runs = sqliteTable(
         t.outcome,
       )
       .where(sql`${t.isolatedAt} IS NOT NULL`),
-    // Escalations: only the escalated runs.
+    // Escalations: only the escalated runs, in the order the escalation spots are grouped (so no sort), the
+    // window and the other filters checked on the entries. escalated_at is listed although the WHERE implies
+    // it: SQLite treats a partial index as covering only when it holds every column the query names.
     index("runs_escalated")
-      .on(t.shopId, t.startedAt, t.boardId, t.mapVersionId, t.techId, t.outcome, t.escalationNetId)
+      .on(
+        t.shopId,
+        t.boardId,
+        t.mapVersionId,
+        t.escalationNetId,
+        t.startedAt,
+        t.techId,
+        t.outcome,
+        t.escalatedAt,
+      )
       .where(sql`${t.escalatedAt} IS NOT NULL`),
     // Repeat failures: jobs fixed ("powers on") in the window, in job order.
     index("runs_outcome_job")

@@ -1,0 +1,2 @@
+DROP INDEX `runs_escalated`;--> statement-breakpoint
+CREATE INDEX `runs_escalated` ON `runs` (`shop_id`,`board_id`,`map_version_id`,`escalation_net_id`,`created_at`,`tech_id`,`outcome`,`escalated_at`) WHERE "runs"."escalated_at" IS NOT NULL;
