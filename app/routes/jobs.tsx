@@ -65,7 +65,13 @@ export default function JobsRoute({ loaderData }: Route.ComponentProps) {
       ) : (
         <>
           <StateLine stations={stations} current={stateFilter} now={now} />
-          <JobTable rows={rows} caption={caption} onClear={stateFilter ? () => setParams({}) : undefined} />
+          <JobTable
+            key={stateFilter}
+            rows={rows}
+            caption={caption}
+            closed={stateFilter === "closed"}
+            onClear={stateFilter ? () => setParams({}) : undefined}
+          />
         </>
       )}
     </>
@@ -159,6 +165,8 @@ export function StateBadge({ state }: { state: JobState }) {
   );
 }
 
+const day = (ms: number) => new Date(ms).toISOString().slice(0, 10);
+
 const columns: ColumnDef<JobListRow>[] = [
   {
     accessorKey: "number",
@@ -182,19 +190,46 @@ const columns: ColumnDef<JobListRow>[] = [
   {
     accessorKey: "createdAt",
     header: "Taken in",
-    cell: (c) => new Date(c.getValue<number>()).toISOString().slice(0, 10),
+    cell: (c) => day(c.getValue<number>()),
     enableGlobalFilter: false,
   },
 ];
 
-function JobTable({ rows, caption, onClear }: { rows: JobListRow[]; caption: string; onClear?: () => void }) {
+/** The closed list adds when each job closed, and opens sorted by it: the order the server chose them in. */
+const closedColumns: ColumnDef<JobListRow>[] = [
+  ...columns,
+  {
+    accessorKey: "closedAt",
+    header: "Closed",
+    cell: (c) => {
+      const at = c.getValue<number | null>();
+      return at === null ? "—" : day(at);
+    },
+    enableGlobalFilter: false,
+  },
+];
+
+function JobTable({
+  rows,
+  caption,
+  closed,
+  onClear,
+}: {
+  rows: JobListRow[];
+  caption: string;
+  closed: boolean;
+  onClear?: () => void;
+}) {
   const [globalFilter, setGlobalFilter] = useState("");
   const [techFilter, setTechFilter] = useState("");
   const techs = [...new Set(rows.map((r) => r.assignedName).filter((n): n is string => !!n))].sort();
-  const [sorting, setSorting] = useState<SortingState>([{ id: "number", desc: true }]);
+  // Closed jobs: the last closed first (a job that waited weeks for parts closes long after its number).
+  const [sorting, setSorting] = useState<SortingState>([
+    closed ? { id: "closedAt", desc: true } : { id: "number", desc: true },
+  ]);
   const table = useReactTable({
     data: rows,
-    columns,
+    columns: closed ? closedColumns : columns,
     state: {
       globalFilter,
       sorting,

@@ -298,6 +298,8 @@ export type JobListRow = {
   assignedName: string | null;
   createdAt: number;
   stateChangedAt: number | null;
+  /** When a closed job closed (the closed list's order); null for a job not closed. */
+  closedAt: number | null;
   warranty: boolean;
 };
 
@@ -333,6 +335,7 @@ export async function listJobs(
         assignedName: users.name,
         createdAt: jobs.createdAt,
         stateChangedAt: jobs.stateChangedAt,
+        closedAt: sql<number | null>`CASE WHEN ${jobs.state} = 'closed' THEN ${closedOrder} END`,
         warrantyOf: jobs.warrantyOfJobId,
       })
       .from(jobs)
@@ -391,6 +394,7 @@ export async function listJobs(
       assignedName: r.assignedName,
       createdAt: r.createdAt.getTime(),
       stateChangedAt: r.stateChangedAt?.getTime() ?? null,
+      closedAt: r.closedAt == null ? null : Number(r.closedAt),
       warranty: !!r.warrantyOf,
     })),
     stations,

@@ -2,7 +2,7 @@ import AxeBuilder from "@axe-core/playwright";
 import { type Browser, expect, type Page, test } from "@playwright/test";
 import { OM_5150_MAP } from "../../seed/maps/om-5150";
 import { simulateBoard } from "../support/bench-sim";
-import { DEMO, signIn, uniqueEmail, waitForEmail } from "./support";
+import { DEMO, signIn, uniqueEmail, waitForEmail, waitForHydration } from "./support";
 
 // The repair from intake to paid, across the desk, a technician and the customer, with the payment taken on
 // the local fake provider the server starts by itself. The bench is simulated as in the walker's tests: each
@@ -210,4 +210,24 @@ test("the job pages have no serious or critical accessibility violations, in bot
       expect(await seriousViolations(desk), `${url} (${theme})`).toEqual([]);
     }
   }
+});
+
+test("the closed jobs open with the last closed first, each with the day it closed", async ({ browser }) => {
+  const desk = await as(browser, DEMO.desk);
+  await desk.goto("/jobs?state=closed");
+  await waitForHydration(desk, "#job-filter");
+  const table = desk.getByRole("table");
+  const headers = (await table.locator("thead th").allTextContents()).map((h) => h.trim());
+  const closedCol = headers.findIndex((h) => h.startsWith("Closed"));
+  expect(closedCol, headers.join(" | ")).toBeGreaterThan(0);
+  await expect(table.locator("thead th").nth(closedCol)).toHaveAttribute("aria-sort", "descending");
+  const days = await table.locator(`tbody tr td:nth-child(${closedCol + 1})`).allTextContents();
+  // The demo's history closes jobs over months, and its job #1 (numbered first) closed weeks ago: a list in
+  // job-number order would put that day out of order.
+  expect(days.length).toBeGreaterThan(50);
+  expect(days.every((d) => /^\d{4}-\d{2}-\d{2}$/.test(d))).toBe(true);
+  expect(days).toEqual([...days].sort().reverse());
+  const numbers = (await table.locator("tbody tr td:nth-child(1)").allTextContents()).map((t) => t.trim());
+  expect(numbers).toContain("#1");
+  expect(numbers.at(-1)).not.toBe("#1");
 });

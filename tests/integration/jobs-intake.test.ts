@@ -247,7 +247,7 @@ describe("transitions through the route", () => {
 
 describe("job list", () => {
   type ListData = {
-    rows: Array<{ id: string; number: number; state: string }>;
+    rows: Array<{ id: string; number: number; state: string; closedAt: number | null }>;
     stations: Record<string, { count: number; numbers: number[]; oldestAt: number | null }>;
     state: string;
   };
@@ -298,6 +298,10 @@ describe("job list", () => {
     expect(closed.rows).toHaveLength(CLOSED_JOBS_SHOWN);
     expect(closed.rows.slice(0, 3).map((r) => r.number)).toEqual([base + 1, base + 205, base + 204]);
     expect(closed.rows.every((r) => r.state === "closed")).toBe(true);
+    // Each closed row carries when it closed (the page's "Closed" column, which the table opens sorted by).
+    expect(closed.rows[0].closedAt).toBe(closedAt(0).getTime());
+    expect(closed.rows[1].closedAt).toBe(closedAt(CLOSED_JOBS_SHOWN + 4).getTime());
+    expect(open.rows.every((r) => r.closedAt === null)).toBe(true);
 
     expect((await list(shop, "?state=received")).rows.map((r) => r.id)).toEqual([later.id, waiting.id]);
     // An unknown state is the default view, not an error.
