@@ -3,20 +3,12 @@ import { useEffect } from "react";
 import { data, Form, useNavigation } from "react-router";
 import { LogoMark } from "~/components/logo";
 import { formatMoney, formatRate } from "~/lib/money";
-import { audit } from "~/server/audit.server";
 import { db } from "~/server/db.server";
 import { appUrl } from "~/server/email.server";
-import { getCustomer, transitionJob } from "~/server/jobs.server";
+import { decideQuote, getCustomer } from "~/server/jobs.server";
 import { createCheckout, PaymentsOffError, paymentsMode } from "~/server/payments.server";
-import {
-  balanceOf,
-  currentInvoice,
-  findQuoteByToken,
-  jobOfQuote,
-  linesOf,
-  raiseInvoice,
-} from "~/server/quotes.server";
-import { boards, quotes, shops } from "~/server/schema.server";
+import { balanceOf, currentInvoice, findQuoteByToken, jobOfQuote, linesOf } from "~/server/quotes.server";
+import { boards, shops } from "~/server/schema.server";
 import { redirectWithToast } from "~/server/toast.server";
 import type { Route } from "./+types/quote-public";
 
@@ -97,31 +89,14 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (intent === "approve" || intent === "decline") {
     if (quote.status !== "sent")
       return data({ message: "This quote has already been answered." }, { status: 409 });
-    const to = intent === "approve" ? "repairing" : "declined";
-    const moved = await transitionJob(
-      job,
-      to,
-      { kind: "customer" },
-      `Quote ${quote.number} ${intent === "approve" ? "approved" : "declined"} by the customer`,
-    );
+    const moved = await decideQuote(shop, job, quote, intent === "approve" ? "approved" : "declined", {
+      kind: "customer",
+    });
     if (!moved.ok)
       return data(
         { message: "This quote can no longer be answered here. Please contact the shop." },
         { status: 409 },
       );
-    await db
-      .update(quotes)
-      .set({ status: intent === "approve" ? "approved" : "declined", decidedAt: new Date() })
-      .where(and(eq(quotes.shopId, shop.id), eq(quotes.id, quote.id), eq(quotes.status, "sent")));
-    if (intent === "approve") await raiseInvoice(shop, job.id, { quote });
-    else if (job.chargeable && job.diagnosticFeeMinor > 0)
-      await raiseInvoice(shop, job.id, { diagnosticFeeMinor: job.diagnosticFeeMinor });
-    await audit({
-      shopId: shop.id,
-      actorId: null,
-      action: `quote.${intent === "approve" ? "approved" : "declined"}`,
-      subject: quote.id,
-    });
     return redirectWithToast(here, {
       kind: "success",
       message:

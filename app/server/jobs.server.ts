@@ -12,7 +12,7 @@ import { audit } from "./audit.server";
 import { db } from "./db.server";
 import { newId } from "./ids.server";
 import { sealPasscode } from "./passcode.server";
-import { currentInvoice, raiseInvoice } from "./quotes.server";
+import { currentInvoice, type Quote, raiseInvoice } from "./quotes.server";
 // Starts the daily retention task in a running server (see tasks.server.ts).
 import "./tasks.server";
 import {
@@ -170,10 +170,8 @@ export function undecidedQuote(job: Job) {
 }
 
 /**
- * The desk records the customer's answer itself (by phone, at the counter): the job moves, the quote is marked
- * decided, and the money follows as on the approval page: an approval raises the invoice from the quote, a
- * decline bills the diagnostic fee. A chargeable job is approved only against a quote, so a repair always
- * leaves something to pay or an owner's waiver.
+ * The desk records the customer's answer itself (by phone, at the counter). A chargeable job is approved only
+ * against a quote, so a repair always leaves something to pay or an owner's waiver.
  */
 export async function recordQuoteDecision(
   shop: Pick<Shop, "id" | "currency" | "taxRateBp">,
@@ -189,13 +187,28 @@ export async function recordQuoteDecision(
       message: "Build the quote the customer approved first: approving it raises the invoice.",
     };
   }
+  return decideQuote(shop, job, quote, decision, actor);
+}
+
+/**
+ * A quote's answer, whoever gives it: the customer on the approval page or the desk for them. The job moves,
+ * the quote is marked decided (only from the status it was read in, so two answers cannot both land) and
+ * audited, and the money follows: an approval raises the invoice from the quote, a decline bills the
+ * diagnostic fee unless the job already has an invoice.
+ */
+export async function decideQuote(
+  shop: Pick<Shop, "id" | "currency" | "taxRateBp">,
+  job: Job,
+  quote: Quote | undefined,
+  decision: "approved" | "declined",
+  actor: { kind: "member"; id: string; role: Actor } | { kind: "customer" },
+): Promise<TransitionResult> {
+  const by = actor.kind === "customer" ? "by the customer" : "(recorded by the shop)";
   const moved = await transitionJob(
     job,
     decision === "approved" ? "repairing" : "declined",
     actor,
-    quote
-      ? `Quote ${quote.number} ${decision} (recorded by the shop)`
-      : `Customer ${decision} (recorded by the shop)`,
+    quote ? `Quote ${quote.number} ${decision} ${by}` : `Customer ${decision} ${by}`,
   );
   if (!moved.ok) return moved;
   if (quote) {
@@ -206,10 +219,10 @@ export async function recordQuoteDecision(
         .where(and(eq(quotes.shopId, job.shopId), eq(quotes.id, quote.id), eq(quotes.status, quote.status))),
       db.insert(auditEvents).values({
         shopId: job.shopId,
-        actorId: actor.id,
+        actorId: actor.kind === "member" ? actor.id : null,
         action: `quote.${decision}`,
         subject: quote.id,
-        data: { by: "member" },
+        data: { by: actor.kind },
       }),
     ]);
   }

@@ -394,8 +394,19 @@ describe("quote, approval link and counter payment", () => {
     expect(after.state).toBe("repairing");
     const lastEvent = (await db.select().from(jobEvents).where(eq(jobEvents.jobId, job.id)).all()).at(-1)!;
     expect(lastEvent).toMatchObject({ toState: "repairing", actorKind: "customer", actorId: null });
+    expect(lastEvent.note).toMatch(/^Quote \d+ approved by the customer$/);
     const invoice = (await db.select().from(invoices).where(eq(invoices.jobId, job.id)).get())!;
     expect(invoice).toMatchObject({ number: 1, totalMinor: 15112, status: "open" });
+    // The same decision as the desk's (one code path): the quote decided and the answer in the audit log.
+    const decided = (await db.select().from(quotes).where(eq(quotes.jobId, job.id)).get())!;
+    expect(decided.status).toBe("approved");
+    expect(decided.decidedAt).toBeInstanceOf(Date);
+    const logged = await db
+      .select()
+      .from(auditEvents)
+      .where(and(eq(auditEvents.subject, decided.id), eq(auditEvents.action, "quote.approved")))
+      .all();
+    expect(logged).toMatchObject([{ actorId: null, data: { by: "customer" } }]);
 
     // A second answer is refused.
     const again = await call(quotePublic.action, {
