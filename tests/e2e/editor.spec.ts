@@ -9,12 +9,19 @@ const PNG_1PX = Buffer.from(
 
 const node = (page: Page, text: string) => page.locator(".react-flow__node", { hasText: text });
 
+// The target is measured once the drag has started, and the pointer rests on it a moment before letting go:
+// on a busy machine the editor may still be settling (a save re-rendering, the view moving) when the drag
+// begins, and the connection line must have caught up with the pointer when the button is released.
 async function drag(page: Page, from: Locator, to: Locator) {
+  await from.hover();
   const a = (await from.boundingBox())!;
-  const b = (await to.boundingBox())!;
   await page.mouse.move(a.x + a.width / 2, a.y + a.height / 2);
   await page.mouse.down();
+  await page.mouse.move(a.x + a.width / 2 + 8, a.y + a.height / 2 + 8, { steps: 3 });
+  const b = (await to.boundingBox())!;
   await page.mouse.move(b.x + b.width / 2, b.y + b.height / 2, { steps: 12 });
+  await page.mouse.move(b.x + b.width / 2 + 1, b.y + b.height / 2, { steps: 2 });
+  await page.waitForTimeout(50);
   await page.mouse.up();
 }
 
